@@ -1,0 +1,48 @@
+"""Printing shared by the subcommands (stdout only; the library never prints)."""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+from ..errors import HingelineError
+from ..output import certificate_agrees, write_outputs
+from ..result import Result
+
+
+class OutputError(HingelineError):
+    """The output folder cannot be written (exit code 2)."""
+
+
+def write(result: Result, outdir: Path) -> list[Path]:
+    """write_outputs, with OSError turned into a message naming the folder."""
+    try:
+        return write_outputs(result, outdir)
+    except OSError as exc:
+        reason = exc.strerror or str(exc)
+        where = exc.filename or outdir
+        raise OutputError(f"output folder '{outdir}': cannot write '{where}' ({reason}); "
+                          "choose another folder with -o") from None
+
+
+def print_summary(result: Result, paths: list[Path], out=None) -> None:
+    """Print the load factor and a short summary of the solve."""
+    out = out or sys.stdout
+    s, chk = result.stats, result.certificate
+    yl = result.yield_lines
+    n_sag = int(sum(bool(x) for x in yl.sagging))
+    p = lambda *a: print(*a, file=out)  # noqa: E731
+    if result.model.title:
+        p(result.model.title)
+    p(f"load factor = {result.load_factor:.4f}  (upper bound: collapse factor of the mechanism found)")
+    p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
+    p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
+      f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")
+    p(f"  LP          {s.rounds} round{'s' if s.rounds != 1 else ''}, {s.seconds:.2f} s")
+    verdict = "agrees" if certificate_agrees(result) else "DOES NOT AGREE - do not use this result"
+    p(f"  certificate load factor re-checked from the mechanism = {chk.load_factor:.6g} ({verdict}); "
+      f"largest |w| on supports {chk.max_support_w:.1e}")
+    for w in result.warnings:
+        p(f"  warning     {w}")
+    p("  caution     upper-bound method; shear/punching, deflection, ductility and detailing not checked; "
+      "have a qualified engineer review it under local codes")
+    p("written: " + ", ".join(str(x) for x in paths))

@@ -1,0 +1,215 @@
+"""Candidate lines: every straight node-to-node segment that may become a yield line.
+
+Discontinuity layout optimisation takes as potential yield lines all segments
+between two nodes that stay inside D and pass through no third node (a segment
+through a node is already represented by the chain of shorter segments). For
+each candidate this module gives its geometry and its plastic cost per unit
+rotation, kNm/rad: the capacity normal to the line times the length of the line
+that lies in the slab (fill costs nothing).
+
+Sign convention: a rotation theta > 0 is sagging (bottom bars yield), theta < 0
+hogging. Lines lying on the slab boundary take the cost of that boundary:
+simply supported edges, free edges and opening edges cost nothing; continuous
+edges cost the hogging capacity (uplift next to a support is taken as free).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from .capacity import normal_capacity
+from .geometry import CONTINUOUS, MARGIN, Domain
+from .model import Model
+
+INTERIOR = -1
+
+
+@dataclass(frozen=True, eq=False)
+class Candidates:
+    """Arrays over c candidate lines, each running from node a to node b (a < b).
+
+    length: m; tangent: (c, 2) unit vector a -> b; normal: (c, 2) tangent turned +90 deg.
+    slab_length: m of the line inside the slab (0 for lines in fill only).
+    kind: INTERIOR, or the boundary kind code (geometry.FREE, SIMPLE, CONTINUOUS,
+        OPENING, MARGIN) for lines lying on a boundary of the slab or of D.
+    edge: index into domain.edges of the slab-boundary piece the line lies on, or -1.
+    cost_plus, cost_minus: kNm per rad of sagging / hogging rotation.
+    """
+
+    a: np.ndarray
+    b: np.ndarray
+    length: np.ndarray
+    tangent: np.ndarray
+    normal: np.ndarray
+    slab_length: np.ndarray
+    kind: np.ndarray
+    edge: np.ndarray
+    cost_plus: np.ndarray
+    cost_minus: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.a)
+
+
+def visible_pairs(nodes: np.ndarray, rel_tol: float = 1e-9) -> np.ndarray:
+    """Node pairs (a < b) whose segment passes through no third node; (p, 2) int array."""
+    n = len(nodes)
+    d = nodes[None, :, :] - nodes[:, None, :]  # d[a, b] = x_b - x_a
+    dist = np.hypot(d[..., 0], d[..., 1])
+    # Rotate the angle origin by an arbitrary amount so the +-pi wrap is unlikely to split a ray.
+    ang = np.arctan2(d[..., 1], d[..., 0]) + 0.3183098861837907
+    ang = np.where(ang > np.pi, ang - 2 * np.pi, ang)
+    ang[np.arange(n), np.arange(n)] = np.inf
+    order = np.argsort(ang, axis=1, kind="stable")
+    rows = np.arange(n)[:, None]
+    ds, dists = d[rows, order], dist[rows, order]
+    cross = ds[:, 1:, 0] * ds[:, :-1, 1] - ds[:, 1:, 1] * ds[:, :-1, 0]
+    dot = (ds[:, 1:] * ds[:, :-1]).sum(-1)
+    same = (np.abs(cross) <= rel_tol * dists[:, 1:] * dists[:, :-1]) & (dot > 0)
+    new_group = np.ones((n, n), bool)
+    new_group[:, 1:] = ~same
+    flat_new = new_group.ravel()
+    starts = np.flatnonzero(flat_new)
+    gid = np.cumsum(flat_new) - 1
+    gmin = np.minimum.reduceat(dists.ravel(), starts)
+    blocked_sorted = dists.ravel() > gmin[gid]
+    blocked = np.empty((n, n), bool)
+    blocked[np.repeat(np.arange(n), n), order.ravel()] = blocked_sorted
+    keep = ~blocked & ~blocked.T
+    a, b = np.nonzero(np.triu(keep, 1))
+    return np.stack([a, b], axis=1)
+
+
+def crossings(p: np.ndarray, q: np.ndarray, edges: np.ndarray, tol: float):
+    """Proper crossings of segments p->q (c, 2) with edges (e, 2, 2).
+
+    Returns (line index, t along p->q, edge index) of every crossing strictly
+    inside the segment (t in (0, 1) beyond `tol` m) and within the edge or at its ends.
+    """
+    out_i, out_t, out_e = [], [], []
+    lo, hi = np.minimum(p, q), np.maximum(p, q)
+    pq = q - p
+    length = np.hypot(pq[:, 0], pq[:, 1])
+    for k, (r, s) in enumerate(edges):
+        elo, ehi = np.minimum(r, s) - tol, np.maximum(r, s) + tol
+        sel = np.flatnonzero((hi[:, 0] >= elo[0]) & (lo[:, 0] <= ehi[0]) & (hi[:, 1] >= elo[1]) & (lo[:, 1] <= ehi[1]))
+        if sel.size == 0:
+            continue
+        rs = s - r
+        d = pq[sel]
+        denom = d[:, 0] * rs[1] - d[:, 1] * rs[0]
+        rp = r - p[sel]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = (rp[:, 0] * rs[1] - rp[:, 1] * rs[0]) / denom
+            u = (rp[:, 0] * d[:, 1] - rp[:, 1] * d[:, 0]) / denom
+        elen = np.hypot(*rs)
+        tt = tol / length[sel]
+        ok = (np.abs(denom) > 1e-12 * length[sel] * elen) & (t > tt) & (t < 1 - tt) & (u >= -tol / elen) & (u <= 1 + tol / elen)
+        out_i.append(sel[ok])
+        out_t.append(t[ok])
+        out_e.append(np.full(ok.sum(), k))
+    if not out_i:
+        z = np.zeros(0)
+        return z.astype(int), z, z.astype(int)
+    return np.concatenate(out_i), np.concatenate(out_t), np.concatenate(out_e)
+
+
+def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, tol: float):
+    """Pieces of segments p->q lying inside `polygon` whose boundary is made of `edges`.
+
+    Returns (line index, t0, t1) for every inside piece (parameters along p->q).
+    """
+    i, t, _ = crossings(p, q, edges, tol)
+    c = len(p)
+    # Breakpoints 0, crossings..., 1 per line, sorted.
+    li = np.concatenate([np.arange(c), i, np.arange(c)])
+    lt = np.concatenate([np.zeros(c), t, np.ones(c)])
+    order = np.lexsort((lt, li))
+    li, lt = li[order], lt[order]
+    same = li[1:] == li[:-1]
+    i0, t0, t1 = li[:-1][same], lt[:-1][same], lt[1:][same]
+    keep = t1 > t0
+    i0, t0, t1 = i0[keep], t0[keep], t1[keep]
+    mid = p[i0] + 0.5 * (t0 + t1)[:, None] * (q[i0] - p[i0])
+    inside = shapely.contains_xy(polygon, mid[:, 0], mid[:, 1])
+    return i0[inside], t0[inside], t1[inside]
+
+
+def _on_edges(points: np.ndarray, edges: np.ndarray, tol: float) -> np.ndarray:
+    """(n, e) bool: point lies on edge (within tol, m)."""
+    r, s = edges[:, 0], edges[:, 1]
+    rs = s - r
+    l2 = (rs**2).sum(1)
+    rel = points[:, None, :] - r[None]
+    u = (rel * rs[None]).sum(-1) / l2
+    u = np.clip(u, 0.0, 1.0)
+    foot = r[None] + u[..., None] * rs[None]
+    return np.hypot(*(points[:, None, :] - foot).transpose(2, 0, 1)) <= tol
+
+
+def _shared_edge(on: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Index of an edge holding both nodes a and b, or -1."""
+    out = np.full(len(a), -1)
+    for start in range(0, len(a), 200_000):
+        sl = slice(start, start + 200_000)
+        both = on[a[sl]] & on[b[sl]]
+        has = both.any(1)
+        out[sl] = np.where(has, both.argmax(1), -1)
+    return out
+
+
+def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candidates:
+    """All admissible node-to-node lines with their costs."""
+    tol = domain.tol
+    pairs = visible_pairs(nodes)
+    a, b = pairs[:, 0], pairs[:, 1]
+    p, q = nodes[a], nodes[b]
+
+    # Lines on the slab boundary or on the boundary of D.
+    slab_edge = _shared_edge(_on_edges(nodes, domain.edges, 10 * tol), a, b)
+    bnd = domain.boundary
+    d_edges = np.stack([bnd, np.roll(bnd, -1, axis=0)], axis=1)
+    on_d = _shared_edge(_on_edges(nodes, d_edges, 10 * tol), a, b) >= 0
+    kind = np.full(len(a), INTERIOR)
+    kind[on_d] = MARGIN
+    kind[slab_edge >= 0] = domain.edge_kind[slab_edge[slab_edge >= 0]]
+
+    # Interior lines must stay inside D: no crossing of its boundary, midpoint inside.
+    interior = np.flatnonzero(kind == INTERIOR)
+    region_convex = domain.region.convex_hull.area <= domain.region.area * (1 + 1e-12)
+    if not region_convex:
+        i, _, _ = crossings(p[interior], q[interior], d_edges, tol)
+        ok = np.ones(len(interior), bool)
+        ok[i] = False
+        mid = 0.5 * (p[interior] + q[interior])
+        ok &= shapely.contains_xy(domain.region, mid[:, 0], mid[:, 1])
+        drop = interior[~ok]
+        keep = np.ones(len(a), bool)
+        keep[drop] = False
+        a, b, p, q, kind, slab_edge = a[keep], b[keep], p[keep], q[keep], kind[keep], slab_edge[keep]
+
+    vec = q - p
+    length = np.hypot(vec[:, 0], vec[:, 1])
+    tangent = vec / length[:, None]
+    normal = np.stack([-tangent[:, 1], tangent[:, 0]], axis=1)
+
+    interior = np.flatnonzero(kind == INTERIOR)
+    slab_length = np.zeros(len(a))
+    has_fill = domain.margin > 0 or len(model.slab.openings) > 0
+    if has_fill:
+        i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, tol)
+        np.add.at(slab_length, interior[i], (t1 - t0) * length[interior[i]])
+    else:
+        slab_length[interior] = length[interior]
+
+    cap = model.capacity
+    m_plus = normal_capacity(cap.sagging, cap.bar_angle, normal)
+    m_minus = normal_capacity(cap.hogging, cap.bar_angle, normal)
+    cost_plus = m_plus * slab_length
+    cost_minus = m_minus * slab_length
+    cont = kind == CONTINUOUS
+    cost_minus[cont] = m_minus[cont] * length[cont]
+    return Candidates(a, b, length, tangent, normal, slab_length, kind, slab_edge,
+                      cost_plus, cost_minus)

@@ -1,0 +1,21 @@
+"""Named exceptions of hingeline.
+
+Every error meant for the user carries a message that names the offending item
+and says what to do; the command line prints it and exits with code 2.
+"""
+
+
+class HingelineError(Exception):
+    """Base class of all errors raised on purpose by hingeline."""
+
+
+class ModelError(HingelineError):
+    """The model (file or data) is invalid: malformed, inconsistent or incomplete."""
+
+
+class UnstableSlabError(HingelineError):
+    """The slab can collapse without resisting (zero or negative load factor)."""
+
+
+class SolverError(HingelineError):
+    """The linear program could not be solved (a fault of hingeline or HiGHS, not of the model)."""

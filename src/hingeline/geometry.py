@@ -1,0 +1,140 @@
+"""Geometry stage: the analysis domain D around the slab.
+
+The mechanism is sought on a region D whose whole boundary is supported ground
+(w = 0, no slope), so that every hinge field on D can be integrated from the
+ground and external work can be written in terms of rotations alone (see
+loadwork.py). D is the slab outline with its openings filled, plus a strip of
+"fill" beyond every free edge. Fill carries no load and has no strength: hinge
+lines cost nothing where they run through it, so the slab next to an opening or
+a free edge can move as it likes, while the field stays single-valued.
+
+Units: m.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely.geometry import LineString, MultiLineString, Polygon
+
+from .errors import ModelError
+from .model import Model
+
+# Segment kinds of the slab boundary (codes used across the pipeline).
+FREE, SIMPLE, CONTINUOUS, OPENING, MARGIN = 0, 1, 2, 3, 4
+KIND_CODES = {"free": FREE, "simple": SIMPLE, "continuous": CONTINUOUS}
+
+
+@dataclass(frozen=True, eq=False)
+class Domain:
+    """The analysis domain and the slab inside it.
+
+    boundary: (k, 2) counter-clockwise vertices of D (its boundary is all ground).
+    slab: shapely Polygon of the slab (outline with openings as holes).
+    region: shapely Polygon of D.
+    edges: (e, 2, 2) straight pieces of the slab boundary (outline and openings).
+    edge_kind: (e,) kind code of each piece (FREE, SIMPLE, CONTINUOUS, OPENING).
+    edge_label: (e,) text naming the piece for messages ("edge 2", "opening 1").
+    margin: width of the fill strip beyond free edges, m (0 if none).
+    scale: a length of the model (bounding-box diagonal), m, for tolerances.
+    """
+
+    boundary: np.ndarray
+    slab: Polygon
+    region: Polygon
+    edges: np.ndarray
+    edge_kind: np.ndarray
+    edge_label: tuple[str, ...]
+    margin: float
+    scale: float
+
+    @property
+    def tol(self) -> float:
+        """Geometric tolerance, m."""
+        return 1e-9 * self.scale
+
+
+def _closed_edges(poly: np.ndarray) -> np.ndarray:
+    return np.stack([poly, np.roll(poly, -1, axis=0)], axis=1)
+
+
+def build_domain(model: Model, margin: float) -> Domain:
+    """Build D for `model` with a fill strip of width `margin` (m) beyond free edges.
+
+    The strip is narrowed where it would reach a supported edge or enclose ground.
+    """
+    slab = model.slab
+    outline = np.asarray(slab.outline, float)
+    kinds = np.array([KIND_CODES[e] for e in slab.edges])
+    outer = Polygon(outline)
+    slab_poly = Polygon(outline, [np.asarray(o, float) for o in slab.openings])
+    lo, hi = outline.min(axis=0), outline.max(axis=0)
+    scale = float(np.hypot(*(hi - lo)))
+
+    edges = [_closed_edges(outline)]
+    edge_kind = [kinds]
+    labels = [f"edge {k + 1}" for k in range(len(outline))]
+    for j, op in enumerate(slab.openings):
+        op = np.asarray(op, float)
+        edges.append(_closed_edges(op))
+        edge_kind.append(np.full(len(op), OPENING))
+        labels += [f"opening {j + 1}"] * len(op)
+    edges = np.concatenate(edges)
+    edge_kind = np.concatenate(edge_kind)
+
+    if not np.any(kinds == FREE):
+        region = outer
+        used = 0.0
+    else:
+        region, used = _with_margin(outer, outline, kinds, margin, scale)
+    boundary = np.asarray(shapely.geometry.polygon.orient(region, 1.0).exterior.coords)[:-1]
+    return Domain(boundary, slab_poly, region, edges, edge_kind, tuple(labels), used, scale)
+
+
+def _free_runs(outline: np.ndarray, kinds: np.ndarray) -> list[np.ndarray]:
+    """Chains of consecutive free edges as vertex arrays (wrapping round the outline)."""
+    n = len(outline)
+    free = kinds == FREE
+    if free.all():
+        return [np.vstack([outline, outline[:1]])]
+    start = int(np.argmin(free))  # a supported edge: runs cannot wrap past it
+    runs, current = [], []
+    for step in range(1, n + 1):
+        k = (start + step) % n
+        if free[k]:
+            if not current:
+                current = [outline[k]]
+            current.append(outline[(k + 1) % n])
+        elif current:
+            runs.append(np.array(current))
+            current = []
+    if current:
+        runs.append(np.array(current))
+    return runs
+
+
+def _with_margin(outer, outline, kinds, margin, scale):
+    tol = 1e-9 * scale
+    supported = [LineString(outline[[k, (k + 1) % len(outline)]]) for k in np.flatnonzero(kinds != FREE)]
+    free_mid = [0.5 * (outline[k] + outline[(k + 1) % len(outline)]) for k in np.flatnonzero(kinds == FREE)]
+    runs = _free_runs(outline, kinds)
+    width = margin
+    for _ in range(8):
+        # Outline is counter-clockwise, so the outside lies to the right: negative single-sided buffer.
+        strips = [LineString(r).buffer(-width, single_sided=True, join_style="bevel") for r in runs]
+        region = shapely.union_all([outer, *strips]).buffer(0)
+        ok = (
+            isinstance(region, Polygon)
+            and len(region.interiors) == 0
+            and all(region.exterior.distance(s.interpolate(f, normalized=True)) <= 10 * tol
+                    for s in supported for f in (0.0, 0.25, 0.5, 0.75, 1.0))
+            and all(region.exterior.distance(shapely.Point(p)) > 0.1 * width for p in free_mid)
+        )
+        if ok:
+            return shapely.geometry.polygon.orient(region, 1.0), width
+        width *= 0.5
+    raise ModelError(
+        "could not place the fill strip beyond the free edges: a free edge lies too close to a "
+        "supported edge facing it; check the edge conditions of the outline"
+    )

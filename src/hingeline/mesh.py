@@ -1,0 +1,84 @@
+"""Mesh stage: well-spread nodes on D that respect every model boundary.
+
+The mesh is only a source of nodes (and of the first set of candidate lines, its
+edges): the yield lines themselves come from all node-to-node lines
+(candidates.py). Every vertex of the outline, the openings, the fill strip and
+the load patches is a node, and nodes are placed along those boundaries, so a
+yield line can follow or end on any of them.
+
+Units: m.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import meshpy.triangle as triangle
+import numpy as np
+import shapely
+from shapely.geometry import LineString
+
+from .geometry import Domain
+from .model import Model
+
+# Target number of nodes on the slab for each resolution word.
+TARGET_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
+
+
+@dataclass(frozen=True, eq=False)
+class Mesh:
+    """nodes: (n, 2) in m; triangles: (t, 3) node indices; edges: (e, 2) unique node pairs a < b."""
+
+    nodes: np.ndarray
+    triangles: np.ndarray
+    edges: np.ndarray
+
+
+def mesh_size_for(model: Model, resolution: str) -> float:
+    """Element size (m) that puts about TARGET_NODES[resolution] nodes on the slab."""
+    area = shapely.Polygon(model.slab.outline).area
+    return float(np.sqrt(2.0 * area / (np.sqrt(3.0) * TARGET_NODES[resolution])))
+
+
+def _linework(domain: Domain, model: Model):
+    lines = [LineString(np.vstack([domain.boundary, domain.boundary[:1]]))]
+    lines += [LineString(e) for e in domain.edges]
+    for load in model.loads:
+        if load.region is not None:
+            ring = LineString(np.vstack([load.region, load.region[:1]]))
+            lines.append(ring.intersection(domain.slab))
+    # Node the linework: split every piece where it meets another, drop repeats.
+    noded = shapely.union_all(lines)
+    segs = []
+    for geom in getattr(noded, "geoms", [noded]):
+        if geom.is_empty or geom.geom_type not in ("LineString", "LinearRing"):
+            continue
+        c = np.asarray(geom.coords)
+        segs.append(np.stack([c[:-1], c[1:]], axis=1))
+    segs = np.concatenate(segs)
+    pts, inv = _merge_points(segs.reshape(-1, 2), domain.tol * 10)
+    facets = inv.reshape(-1, 2)
+    facets = facets[facets[:, 0] != facets[:, 1]]
+    facets = np.unique(np.sort(facets, axis=1), axis=0)
+    return pts, facets
+
+
+def _merge_points(p: np.ndarray, tol: float):
+    """Unique points up to `tol` (m); returns (points, index of each input point)."""
+    key = np.round(p / tol).astype(np.int64)
+    _, first, inv = np.unique(key, axis=0, return_index=True, return_inverse=True)
+    return p[first], inv.ravel()
+
+
+def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
+    """Quality triangulation of D with elements of about `size` (m)."""
+    pts, facets = _linework(domain, model)
+    info = triangle.MeshInfo()
+    info.set_points(pts.tolist())
+    info.set_facets(facets.tolist())
+    max_area = 0.5 * np.sqrt(3.0) / 4.0 * size**2 * 3.4
+    mesh = triangle.build(info, max_volume=max_area, min_angle=28.0, generate_faces=False)
+    nodes = np.array(mesh.points, float)
+    tris = np.array(mesh.elements, np.int64)
+    e = np.concatenate([tris[:, [0, 1]], tris[:, [1, 2]], tris[:, [2, 0]]])
+    edges = np.unique(np.sort(e, axis=1), axis=0)
+    return Mesh(nodes, tris, edges)

@@ -1,0 +1,739 @@
+"""Model stage: the slab as the user describes it (read from TOML, validated).
+
+Units: lengths in m, moments in kNm/m, area loads in kPa (kN/m^2).
+Sign conventions: loads positive downward; sagging = bottom bars in tension.
+All arrays are float64; polygons are (k, 2) arrays of vertices without the
+closing repeat, counter-clockwise after reading (edge labels re-ordered to match).
+"""
+from __future__ import annotations
+
+import difflib
+import math
+import numbers
+import tomllib
+from dataclasses import dataclass, field
+from os import PathLike
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import shapely
+from shapely.geometry import Polygon
+from shapely.ops import nearest_points
+
+from .errors import ModelError
+
+EDGE_KINDS = ("simple", "continuous", "free")
+RESOLUTIONS = ("coarse", "normal", "fine")
+
+
+@dataclass(frozen=True, eq=False)
+class Slab:
+    """Slab geometry.
+
+    outline: (n, 2) vertices in m, counter-clockwise.
+    edges: n edge conditions; edge k runs from vertex k to vertex k+1 (mod n).
+    openings: polygons (k, 2) in m, counter-clockwise, strictly inside the outline,
+        not touching each other.
+    thickness: m, or None when not given.
+    """
+
+    outline: np.ndarray
+    edges: tuple[str, ...]
+    openings: tuple[np.ndarray, ...] = ()
+    thickness: float | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class Capacity:
+    """Plastic moment capacities per unit width, kNm/m (all >= 0).
+
+    sagging: (m1, m2) of the bottom bars along bar directions 1 and 2.
+    hogging: (m1', m2') of the top bars along bar directions 1 and 2.
+    bar_angle: degrees from the x axis to bar direction 1 (direction 2 is 90 deg further).
+    """
+
+    sagging: tuple[float, float]
+    hogging: tuple[float, float]
+    bar_angle: float = 0.0
+
+
+@dataclass(frozen=True, eq=False)
+class AreaLoad:
+    """Uniform area load.
+
+    value: kPa, > 0 (downward).
+    region: (k, 2) polygon in m (counter-clockwise) or None for the whole slab
+        (openings excluded).
+    factored: True if scaled by the load factor, False if held constant.
+    name: label used in messages and reports ("load 1", ... when not given).
+    """
+
+    value: float
+    region: np.ndarray | None = None
+    factored: bool = True
+    name: str = ""
+
+
+@dataclass(frozen=True, eq=False)
+class Analysis:
+    """Solver settings.
+
+    resolution: "coarse" | "normal" | "fine" (target node counts, see mesh.py).
+    mesh_size: optional explicit target element size in m; overrides resolution.
+    """
+
+    resolution: str = "normal"
+    mesh_size: float | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class Model:
+    """A complete, validated slab model."""
+
+    slab: Slab
+    capacity: Capacity
+    loads: tuple[AreaLoad, ...]
+    analysis: Analysis = field(default_factory=Analysis)
+    title: str = ""
+
+
+# ---------------------------------------------------------------------------
+# Reading and validation
+#
+# Message convention (used in every ModelError): items are named by their path
+# in the file, list positions 1-based in file order -- "slab.opening[2]",
+# "load[3].region", "slab.edges[4]", "capacity.sagging[2]". Vertices and edges
+# are numbered 1-based in the order the user wrote them (before any
+# re-orientation): "vertex 3 (7.2, 5.4)"; edge k runs from vertex k to vertex
+# k+1 (the last edge back to vertex 1) and is written
+# "edge 3 (vertex 3 (7.2, 0) to vertex 4 (7.2, 5.4))".
+# ---------------------------------------------------------------------------
+
+# Allowed keys of each table. To support a new section, add its keys here and
+# a parser below, and call the parser from parse_model.
+TOP_KEYS = ("title", "slab", "capacity", "load", "analysis")
+SLAB_KEYS = ("outline", "edges", "thickness", "opening")
+OPENING_KEYS = ("polygon",)
+CAPACITY_KEYS = ("sagging", "hogging", "bar_angle")
+ANALYSIS_KEYS = ("resolution", "mesh_size")
+# Keys allowed in a [[load]] table, per load type.
+LOAD_KEYS = {
+    "area": ("type", "value", "region", "factored", "name"),
+}
+
+_REL_TOL = 1e-9  # geometric tolerance relative to the outline's bounding-box size
+
+
+class _Invalid(Exception):
+    """Internal: a validation failure; parse_model prefixes the source and re-raises ModelError."""
+
+
+def read_model(path: str | PathLike[str]) -> Model:
+    """Read and validate a model from a TOML file (units m, kN, kNm/m, kPa).
+
+    Raises ModelError naming the file when it is missing, unreadable, not UTF-8,
+    not valid TOML (with the line/column tomllib reports) or not a valid model.
+    """
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise ModelError(f"model file '{p}' not found; check the path and file name") from None
+    except IsADirectoryError:
+        raise ModelError(f"model file '{p}' is a directory; give the path of a .toml file") from None
+    except OSError as exc:
+        reason = exc.strerror or str(exc)
+        raise ModelError(f"model file '{p}' cannot be read ({reason}); check that it exists and is readable") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ModelError(
+            f"model file '{p}' is not UTF-8 text (bad byte at position {exc.start}); save it as UTF-8"
+        ) from None
+    return _from_text(text, str(p))
+
+
+def model_from_toml(text: str, source: str = "model") -> Model:
+    """Build and validate a model from TOML text; `source` prefixes error messages."""
+    if not isinstance(text, str):
+        raise ModelError(f"{source}: TOML text must be a string, got {type(text).__name__}")
+    return _from_text(text, source)
+
+
+def _from_text(text: str, source: str) -> Model:
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ModelError(f"{source}: not valid TOML: {exc}; fix the syntax there") from None
+    return parse_model(data, source)
+
+
+def parse_model(data: dict, source: str = "model") -> Model:
+    """Build and validate a Model from an already-parsed dict (the TOML structure).
+
+    Polygons are returned counter-clockwise as read-only float64 (k, 2) arrays
+    without a closing repeat; a clockwise outline is reversed (keeping its first
+    vertex first) and its edge labels re-mapped to the same physical edges.
+    Raises ModelError ("<source>: <item> ...; <what to do>") on the first problem.
+    """
+    try:
+        return _parse(data)
+    except _Invalid as exc:
+        raise ModelError(f"{source}: {exc}") from None
+
+
+def _parse(data: Any) -> Model:
+    if not isinstance(data, dict):
+        raise _Invalid(f"the model must be a table of sections, got {_type_name(data)}")
+    _check_keys(data, TOP_KEYS, "the top level of the file")
+
+    title = data.get("title", "")
+    if not isinstance(title, str):
+        raise _Invalid(f"title must be text in quotes, got {_show(title)}")
+
+    slab_t = _required_table(data, "slab", "add a [slab] table with outline and edges")
+    _check_keys(slab_t, SLAB_KEYS, "[slab]")
+    slab, geo = _parse_slab(slab_t)
+
+    cap_t = _required_table(data, "capacity", "add a [capacity] table with at least sagging = <kNm/m>")
+    _check_keys(cap_t, CAPACITY_KEYS, "[capacity]")
+    capacity = _parse_capacity(cap_t)
+
+    loads = _parse_loads(data.get("load"), geo)
+
+    if "analysis" in data:
+        an_t = data["analysis"]
+        if not isinstance(an_t, dict):
+            raise _Invalid(f"analysis must be a table [analysis], got {_show(an_t)}")
+        _check_keys(an_t, ANALYSIS_KEYS, "[analysis]")
+        analysis = _parse_analysis(an_t)
+    else:
+        analysis = Analysis()
+
+    return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title)
+
+
+# --- sections ---------------------------------------------------------------
+
+
+class _Geometry:
+    """Validated slab geometry as shapely polygons, with the tolerances used."""
+
+    def __init__(self, outline: Polygon, openings: list[Polygon], tol: float):
+        self.outline = outline
+        self.openings = openings
+        self.tol = tol  # m
+        size = tol / _REL_TOL
+        self.area_tol = tol * size  # m^2
+
+
+def _parse_slab(t: dict) -> tuple[Slab, _Geometry]:
+    if "outline" not in t:
+        raise _Invalid("[slab] has no outline; add outline = [[x1, y1], [x2, y2], ...] (m)")
+    if "edges" not in t:
+        raise _Invalid(
+            "[slab] has no edges; add edges = [...] with one of "
+            f"{_words(EDGE_KINDS)} per outline edge, or one word for all edges"
+        )
+    raw = _points(t["outline"], "slab.outline")
+    if len(raw):
+        extent = float(np.max(np.ptp(raw, axis=0)))
+    else:
+        extent = 0.0
+    tol = _REL_TOL * extent if extent > 0 else _REL_TOL
+    outline_user = _clean_polygon(raw, "slab.outline", tol)
+    n = len(outline_user)
+    dropped = len(raw) - n
+
+    edges_raw = t["edges"]
+    if isinstance(edges_raw, str):
+        edges_user = [edges_raw] * n
+        if edges_raw not in EDGE_KINDS:
+            raise _Invalid(
+                f"slab.edges is \"{edges_raw}\", which is not an edge condition; "
+                f"use one of {_words(EDGE_KINDS)}"
+            )
+    elif isinstance(edges_raw, (list, tuple)):
+        if len(edges_raw) != n:
+            extra = " (the repeated closing vertex is not counted)" if dropped else ""
+            raise _Invalid(
+                f"slab.edges has {len(edges_raw)} entries but slab.outline has {n} edges{extra}: "
+                f"expected {n}, got {len(edges_raw)}; give one word per edge "
+                "(edge k runs from vertex k to vertex k+1) or a single word for all edges"
+            )
+        for k, word in enumerate(edges_raw):
+            if not isinstance(word, str) or word not in EDGE_KINDS:
+                raise _Invalid(
+                    f"slab.edges[{k + 1}] = {_show(word)} for {_edge_label(outline_user, k)} "
+                    f"is not an edge condition; use one of {_words(EDGE_KINDS)}"
+                )
+        edges_user = list(edges_raw)
+    else:
+        raise _Invalid(
+            f"slab.edges must be a list of words or one word, got {_show(edges_raw)}; "
+            f"use words from {_words(EDGE_KINDS)}"
+        )
+    if all(e == "free" for e in edges_user):
+        raise _Invalid(
+            "slab.edges: every edge is \"free\", so nothing supports the slab; "
+            "make at least one edge \"simple\" or \"continuous\""
+        )
+
+    outline, order = _ccw(outline_user)
+    edges = tuple(edges_user[k] for k in order)
+
+    thickness = None
+    if "thickness" in t:
+        thickness = _number(t["thickness"], "slab.thickness", "m")
+        if thickness <= 0:
+            raise _Invalid(f"slab.thickness is {_fmt(thickness)} m; give a thickness > 0 (m) or leave it out")
+
+    outline_poly = Polygon(outline)
+    openings_raw = t.get("opening", [])
+    if isinstance(openings_raw, dict):
+        raise _Invalid("slab.opening must be a list of tables: write each opening as [[slab.opening]] (double brackets)")
+    if not isinstance(openings_raw, (list, tuple)):
+        raise _Invalid(f"slab.opening must be a list of [[slab.opening]] tables, got {_show(openings_raw)}")
+    openings: list[np.ndarray] = []
+    opening_polys: list[Polygon] = []
+    for i, ot in enumerate(openings_raw):
+        where = f"slab.opening[{i + 1}]"
+        if not isinstance(ot, dict):
+            raise _Invalid(f"{where} must be a table with a polygon, got {_show(ot)}")
+        _check_keys(ot, OPENING_KEYS, where)
+        if "polygon" not in ot:
+            raise _Invalid(f"{where} has no polygon; add polygon = [[x1, y1], [x2, y2], ...] (m)")
+        user = _clean_polygon(_points(ot["polygon"], f"{where}.polygon"), where, tol)
+        _check_strictly_inside(user, outline_poly, where, tol)
+        poly = Polygon(user)
+        for j, other in enumerate(opening_polys):
+            if poly.distance(other) <= tol:
+                at = _meeting_point(poly, other)
+                raise _Invalid(
+                    f"slab.opening[{j + 1}] and {where} overlap or touch near {at}; "
+                    "keep openings apart or merge them into one opening polygon"
+                )
+        ccw, _ = _ccw(user)
+        openings.append(ccw)
+        opening_polys.append(poly)
+
+    slab = Slab(
+        outline=_frozen(outline),
+        edges=edges,
+        openings=tuple(_frozen(o) for o in openings),
+        thickness=thickness,
+    )
+    return slab, _Geometry(outline_poly, opening_polys, tol)
+
+
+def _parse_capacity(t: dict) -> Capacity:
+    if "sagging" not in t:
+        raise _Invalid(
+            "[capacity] has no sagging; add sagging = <kNm/m> (bottom bars, one number or a pair "
+            "for bar directions 1 and 2)"
+        )
+    sagging = _moment_pair(t["sagging"], "capacity.sagging")
+    hogging = _moment_pair(t.get("hogging", 0.0), "capacity.hogging")
+    if max(sagging + hogging) <= 0:
+        raise _Invalid(
+            "[capacity]: no positive capacity (sagging and hogging are all 0); "
+            "give the moment capacity of the bottom bars in capacity.sagging (kNm/m)"
+        )
+    bar_angle = _number(t.get("bar_angle", 0.0), "capacity.bar_angle", "degrees")
+    return Capacity(sagging=sagging, hogging=hogging, bar_angle=bar_angle)
+
+
+def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:
+    hint = 'add at least one [[load]] table, e.g. type = "area" and value = <kPa>'
+    if raw is None:
+        raise _Invalid(f"no [[load]] given; {hint}")
+    if isinstance(raw, dict):
+        raise _Invalid("load must be a list of tables: write each load as [[load]] (double brackets)")
+    if not isinstance(raw, (list, tuple)):
+        raise _Invalid(f"load must be a list of [[load]] tables, got {_show(raw)}")
+    if len(raw) == 0:
+        raise _Invalid(f"load is empty; {hint}")
+    loads = []
+    seen: dict[str, int] = {}
+    for i, lt in enumerate(raw):
+        where = f"load[{i + 1}]"
+        if not isinstance(lt, dict):
+            raise _Invalid(f"{where} must be a table, got {_show(lt)}")
+        if "type" not in lt:
+            raise _Invalid(f"{where} has no type; add type = one of {_words(LOAD_KEYS)}")
+        kind = lt["type"]
+        if not isinstance(kind, str) or kind not in LOAD_KEYS:
+            raise _Invalid(
+                f"{where}.type = {_show(kind)} is not a load type hingeline knows; "
+                f"available load types: {_words(LOAD_KEYS)}"
+            )
+        _check_keys(lt, LOAD_KEYS[kind], f"{where} (type \"{kind}\")")
+        load = _LOAD_PARSERS[kind](lt, where, geo, i)
+        if load.name in seen:
+            raise _Invalid(
+                f"{where} has the name \"{load.name}\", already used by load[{seen[load.name]}]; "
+                "give each load its own name"
+            )
+        seen[load.name] = i + 1
+        loads.append(load)
+    if not any(ld.factored for ld in loads):
+        raise _Invalid(
+            "every load has factored = false, so there is nothing for the load factor to scale; "
+            "make at least one load factored (factored = true, the default)"
+        )
+    return tuple(loads)
+
+
+def _parse_area_load(t: dict, where: str, geo: _Geometry, index: int) -> AreaLoad:
+    name = t.get("name", f"load {index + 1}")
+    if not isinstance(name, str) or not name.strip():
+        raise _Invalid(f"{where}.name must be non-empty text in quotes, got {_show(name)}")
+    named = f" (load \"{name}\")" if "name" in t else ""
+    if "value" not in t:
+        raise _Invalid(f"{where}{named} has no value; add value = <kPa> (> 0, downward)")
+    value = _number(t["value"], f"{where}.value{named}", "kPa")
+    if value <= 0:
+        raise _Invalid(f"{where}.value{named} is {_fmt(value)} kPa; an area load must be > 0 kPa (downward)")
+    factored = t.get("factored", True)
+    if not isinstance(factored, bool):
+        raise _Invalid(f"{where}.factored{named} must be true or false (no quotes), got {_show(factored)}")
+    region = None
+    if "region" in t:
+        rwhere = f"{where}.region{named}"
+        user = _clean_polygon(_points(t["region"], rwhere), rwhere, geo.tol)
+        poly = Polygon(user)
+        inside = poly.intersection(geo.outline).area
+        if inside <= geo.area_tol:
+            raise _Invalid(f"{rwhere} lies wholly outside slab.outline; move the region onto the slab")
+        outside = poly.difference(geo.outline)
+        if outside.area > geo.area_tol:
+            raise _Invalid(
+                f"{rwhere} lies partly outside slab.outline ({_fmt(outside.area)} m^2 outside, "
+                f"near {_pt(_where_is(outside))}); trim the region to the slab"
+            )
+        for j, op in enumerate(geo.openings):
+            common = poly.intersection(op)
+            if common.area > geo.area_tol:
+                raise _Invalid(
+                    f"{rwhere} overlaps slab.opening[{j + 1}] ({_fmt(common.area)} m^2 in common, near "
+                    f"{_pt(_where_is(common))}); cut the opening out of the region "
+                    "(split it into polygons that avoid the opening)"
+                )
+        region, _ = _ccw(user)
+        region = _frozen(region)
+    return AreaLoad(value=value, region=region, factored=factored, name=name)
+
+
+_LOAD_PARSERS = {"area": _parse_area_load}
+
+
+def _parse_analysis(t: dict) -> Analysis:
+    resolution = t.get("resolution", "normal")
+    if not isinstance(resolution, str) or resolution not in RESOLUTIONS:
+        raise _Invalid(
+            f"analysis.resolution = {_show(resolution)} is not a resolution; use one of {_words(RESOLUTIONS)}"
+        )
+    mesh_size = None
+    if "mesh_size" in t:
+        mesh_size = _number(t["mesh_size"], "analysis.mesh_size", "m")
+        if mesh_size <= 0:
+            raise _Invalid(
+                f"analysis.mesh_size is {_fmt(mesh_size)} m; give an element size > 0 (m) or leave it out"
+            )
+    return Analysis(resolution=resolution, mesh_size=mesh_size)
+
+
+# --- basic values -----------------------------------------------------------
+
+
+def _check_keys(table: dict, allowed: tuple[str, ...], where: str) -> None:
+    for key in table:
+        if key not in allowed:
+            close = difflib.get_close_matches(str(key), allowed, n=1)
+            hint = f" (did you mean '{close[0]}'?)" if close else ""
+            raise _Invalid(
+                f"unknown key '{key}' in {where}{hint}; allowed keys: {', '.join(allowed)}"
+            )
+
+
+def _required_table(data: dict, key: str, todo: str) -> dict:
+    if key not in data:
+        raise _Invalid(f"no [{key}] table; {todo}")
+    t = data[key]
+    if not isinstance(t, dict):
+        raise _Invalid(f"{key} must be a table [{key}], got {_show(t)}; {todo}")
+    return t
+
+
+def _is_number(x: Any) -> bool:
+    return isinstance(x, numbers.Real) and not isinstance(x, (bool, np.bool_))
+
+
+def _number(x: Any, where: str, unit: str) -> float:
+    if not _is_number(x):
+        raise _Invalid(f"{where} must be a number ({unit}), got {_show(x)}")
+    v = float(x)
+    if not math.isfinite(v):
+        raise _Invalid(f"{where} is {v}; give a finite number ({unit})")
+    return v
+
+
+def _moment_pair(x: Any, where: str) -> tuple[float, float]:
+    if isinstance(x, (list, tuple, np.ndarray)):
+        if len(x) != 2:
+            raise _Invalid(
+                f"{where} has {len(x)} values; give one number (same in both bar directions) "
+                "or a pair [direction 1, direction 2] (kNm/m)"
+            )
+        pair = tuple(_number(v, f"{where}[{k + 1}]", "kNm/m") for k, v in enumerate(x))
+        names = [f"{where}[1]", f"{where}[2]"]
+    else:
+        v = _number(x, where, "kNm/m")
+        pair = (v, v)
+        names = [where, where]
+    for name, v in zip(names, pair):
+        if v < 0:
+            raise _Invalid(f"{name} is {_fmt(v)} kNm/m; moment capacities must be >= 0 (0 = no bars)")
+    return pair  # type: ignore[return-value]
+
+
+def _points(x: Any, where: str) -> np.ndarray:
+    """A list of [x, y] pairs as an (m, 2) float64 array (no geometric checks)."""
+    if isinstance(x, np.ndarray):
+        x = x.tolist()
+    if not isinstance(x, (list, tuple)):
+        raise _Invalid(f"{where} must be a list of [x, y] points (m), got {_show(x)}")
+    out = np.empty((len(x), 2))
+    for k, p in enumerate(x):
+        if not isinstance(p, (list, tuple)) or len(p) != 2 or not all(_is_number(c) for c in p):
+            raise _Invalid(f"{where} vertex {k + 1} must be a pair of numbers [x, y] (m), got {_show(p)}")
+        if not all(math.isfinite(float(c)) for c in p):
+            raise _Invalid(f"{where} vertex {k + 1} is {_show(p)}; coordinates must be finite numbers (m)")
+        out[k] = (float(p[0]), float(p[1]))
+    return out
+
+
+# --- polygons ---------------------------------------------------------------
+
+
+def _clean_polygon(pts: np.ndarray, where: str, tol: float) -> np.ndarray:
+    """Validate a simple polygon given in the user's order; return it without the closing repeat.
+
+    Checks, in this order: at least 3 distinct vertices, no repeated consecutive
+    vertices, non-zero area, no self-intersection (edges crossing, touching or
+    folding back). Vertex/edge numbers in messages follow the user's order.
+    """
+    if len(pts) >= 2 and np.hypot(*(pts[-1] - pts[0])) <= tol:
+        pts = pts[:-1]
+    n = len(pts)
+    if n:
+        d = np.hypot(*(pts[:, None, :] - pts[None, :, :]).transpose(2, 0, 1))
+        repeats = np.tril(d <= tol, k=-1).any(axis=1)
+        distinct = int(n - repeats.sum())
+    else:
+        distinct = 0
+    if distinct < 3:
+        raise _Invalid(
+            f"{where} has {distinct} distinct vertices; a polygon needs at least 3 "
+            "(give [[x1, y1], [x2, y2], [x3, y3], ...] in m)"
+        )
+    nxt = np.roll(pts, -1, axis=0)
+    same = np.hypot(*(nxt - pts).T) <= tol
+    if same.any():
+        k = int(np.argmax(same))
+        k2 = (k + 1) % n
+        raise _Invalid(
+            f"{where}: vertex {k + 1} {_pt(pts[k])} and vertex {k2 + 1} {_pt(pts[k2])} are the same point "
+            "(repeated consecutive vertex); remove one of them"
+        )
+    extent = float(np.max(np.ptp(pts, axis=0)))
+    hull_area = shapely.MultiPoint(pts).convex_hull.area
+    if hull_area <= tol * extent:
+        raise _Invalid(
+            f"{where} has zero area (all its vertices lie on one line, e.g. vertex 1 {_pt(pts[0])}); "
+            "give the corners of a polygon with area"
+        )
+    hit = _self_intersection(pts, tol)
+    if hit is not None:
+        i, j, at = hit
+        raise _Invalid(
+            f"{where} intersects itself: {_edge_label(pts, i)} and {_edge_label(pts, j)} "
+            f"cross or touch at {_pt(at)}; list the vertices in order once around the boundary "
+            "so that no two edges meet except at their shared vertex"
+        )
+    poly = Polygon(pts)
+    if not poly.is_valid:  # safety net: should not happen after the checks above
+        raise _Invalid(f"{where} is not a valid polygon ({shapely.is_valid_reason(poly)}); check its vertices")
+    return pts
+
+
+def _self_intersection(pts: np.ndarray, tol: float) -> tuple[int, int, np.ndarray] | None:
+    """First pair of edges (i, j), i < j, 0-based, that cross, touch or overlap, with a point; else None."""
+    n = len(pts)
+    a = pts
+    b = np.roll(pts, -1, axis=0)  # edge k: a[k] -> b[k]
+    i, j = np.triu_indices(n, k=1)
+    adjacent = (j == i + 1) | ((i == 0) & (j == n - 1))
+    # Endpoint-to-segment distances. For adjacent edges only the far endpoints
+    # count (they share one vertex): a fold-back puts one on the other edge.
+    cand = np.stack(
+        [
+            _point_segment_distance(a[j], a[i], b[i]),
+            _point_segment_distance(b[j], a[i], b[i]),
+            _point_segment_distance(a[i], a[j], b[j]),
+            _point_segment_distance(b[i], a[j], b[j]),
+        ]
+    )
+    pts4 = np.stack([a[j], b[j], a[i], b[i]])
+    # Shared vertex of adjacent pairs: j == i+1 shares b[i] == a[j]; (0, n-1) shares a[0] == b[n-1].
+    shared = np.zeros_like(cand, dtype=bool)
+    shared[0] = j == i + 1  # a[j] is the shared vertex
+    shared[3] = j == i + 1  # b[i] is the shared vertex
+    wrap = (i == 0) & (j == n - 1)
+    shared[1] = wrap  # b[j] = a[0]
+    shared[2] = wrap  # a[i] = b[n-1]
+    cand = np.where(shared, np.inf, cand)
+    touch = (cand <= tol).any(axis=0)
+    ui = b[i] - a[i]
+    uj = b[j] - a[j]
+    c1 = _cross(ui, a[j] - a[i])
+    c2 = _cross(ui, b[j] - a[i])
+    c3 = _cross(uj, a[i] - a[j])
+    c4 = _cross(uj, b[i] - a[j])
+    proper = (c1 * c2 < 0) & (c3 * c4 < 0) & ~adjacent
+    bad = touch | proper
+    if not bad.any():
+        return None
+    k = int(np.argmax(bad))
+    if proper[k]:
+        t = c3[k] / (c3[k] - c4[k])
+        at = a[i[k]] + t * ui[k]
+    else:
+        at = pts4[int(np.argmin(cand[:, k])), k]
+    return int(i[k]), int(j[k]), at
+
+
+def _point_segment_distance(p: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Distance (m) from points p to segments a-b; arrays (..., 2)."""
+    d = b - a
+    L2 = np.einsum("...i,...i->...", d, d)
+    t = np.einsum("...i,...i->...", p - a, d) / np.where(L2 > 0, L2, 1.0)
+    t = np.clip(t, 0.0, 1.0)
+    return np.linalg.norm(p - (a + t[..., None] * d), axis=-1)
+
+
+def _cross(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    return u[..., 0] * v[..., 1] - u[..., 1] * v[..., 0]
+
+
+def _ccw(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Counter-clockwise copy of a simple polygon and the edge map.
+
+    Returns (ccw, order): edge k of `ccw` (vertex k -> k+1) is edge order[k] of `pts`.
+    A clockwise polygon is reversed keeping its first vertex first.
+    """
+    n = len(pts)
+    x, y = pts[:, 0], pts[:, 1]
+    signed = 0.5 * float(np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y))
+    if signed > 0:
+        return pts.copy(), np.arange(n)
+    idx = (-np.arange(n)) % n  # new vertex j = old vertex -j
+    order = (-np.arange(n) - 1) % n  # new edge j (old -j -> old -j-1) = old edge -j-1
+    return pts[idx].copy(), order
+
+
+def _check_strictly_inside(pts: np.ndarray, outline: Polygon, where: str, tol: float) -> None:
+    poly = Polygon(pts)
+    boundary = outline.exterior
+    if outline.contains(poly) and boundary.distance(poly) > tol:
+        return
+    todo = (
+        "move it inside the slab, clear of the outline (an opening at the slab edge "
+        "is modelled by changing slab.outline instead)"
+    )
+    x, y = pts[:, 0], pts[:, 1]
+    dist = shapely.distance(shapely.points(x, y), boundary)
+    on = dist <= tol
+    if on.any():
+        k = int(np.argmax(on))
+        raise _Invalid(
+            f"{where} is not strictly inside slab.outline: its vertex {k + 1} {_pt(pts[k])} "
+            f"lies on the outline; {todo}"
+        )
+    outside = ~shapely.contains_xy(outline, x, y)
+    if outside.any():
+        k = int(np.argmax(outside))
+        raise _Invalid(
+            f"{where} is not strictly inside slab.outline: its vertex {k + 1} {_pt(pts[k])} "
+            f"lies outside the outline; {todo}"
+        )
+    at = _meeting_point(poly.exterior, boundary)
+    raise _Invalid(f"{where} is not strictly inside slab.outline: its boundary meets the outline near {at}; {todo}")
+
+
+def _meeting_point(g1, g2) -> str:
+    """A point (formatted) where two geometries meet, or their nearest points when apart."""
+    common = g1.intersection(g2)
+    if not common.is_empty:
+        return _pt(_where_is(common))
+    p, _ = nearest_points(g1, g2)
+    return _pt((p.x, p.y))
+
+
+def _where_is(geom) -> tuple[float, float]:
+    p = geom.representative_point()
+    return (p.x, p.y)
+
+
+def _frozen(a: np.ndarray) -> np.ndarray:
+    a = np.ascontiguousarray(a, dtype=np.float64)
+    a.flags.writeable = False
+    return a
+
+
+# --- message helpers --------------------------------------------------------
+
+
+def _fmt(v: float) -> str:
+    return f"{v:.6g}"
+
+
+def _pt(p) -> str:
+    return f"({_fmt(float(p[0]))}, {_fmt(float(p[1]))})"
+
+
+def _edge_label(pts: np.ndarray, k: int) -> str:
+    """'edge k (vertex k (x, y) to vertex k+1 (x, y))', 1-based, k given 0-based."""
+    n = len(pts)
+    k2 = (k + 1) % n
+    return f"edge {k + 1} (vertex {k + 1} {_pt(pts[k])} to vertex {k2 + 1} {_pt(pts[k2])})"
+
+
+def _words(words) -> str:
+    return ", ".join(f'"{w}"' for w in words)
+
+
+def _type_name(x: Any) -> str:
+    if isinstance(x, str):
+        return "text"
+    if isinstance(x, bool):
+        return "true/false"
+    if isinstance(x, dict):
+        return "a table"
+    if isinstance(x, (list, tuple)):
+        return "a list"
+    return type(x).__name__
+
+
+def _show(x: Any) -> str:
+    """Short description of a bad value for messages."""
+    if isinstance(x, str):
+        s = f'"{x}" (text)'
+    elif isinstance(x, bool):
+        s = f"{str(x).lower()} (true/false)"
+    elif isinstance(x, dict):
+        s = "a table"
+    else:
+        s = repr(x)
+    return s if len(s) <= 60 else s[:57] + "..."

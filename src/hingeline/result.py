@@ -1,0 +1,107 @@
+"""Result stage: what a solve returns, and its JSON form.
+
+Units: lengths m; rotations rad; work kNm. The mechanism is normalised so that
+the factored loads do unit work (1 kNm): deflections w are then in m per kNm of
+factored-load work, positive downward, and the load factor equals
+internal work - held-load work.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .model import Model
+
+CAUTIONS = (
+    "Yield-line analysis is an upper-bound method: the load factor is the collapse "
+    "factor of the mechanism found, which can only be at or above the true collapse factor.",
+    "Not checked: shear and punching shear, deflection and serviceability, ductility "
+    "(rotation capacity of the hinges), detailing and anchorage of bars.",
+    "Results must be reviewed by a qualified engineer under the codes that apply locally.",
+)
+
+
+@dataclass(frozen=True, eq=False)
+class YieldLines:
+    """Active yield lines of the mechanism, clipped to the slab; arrays of length k.
+
+    start, end: (k, 2) end points in m.
+    rotation: (k,) relative rotation across the line, rad, > 0.
+    sagging: (k,) True for sagging (bottom bars yield), False for hogging.
+    dissipation: (k,) internal work of the line, kNm.
+    at_support: (k,) True for hinges along a supported edge.
+    """
+
+    start: np.ndarray
+    end: np.ndarray
+    rotation: np.ndarray
+    sagging: np.ndarray
+    dissipation: np.ndarray
+    at_support: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.rotation)
+
+
+@dataclass(frozen=True, eq=False)
+class Mechanism:
+    """The certificate: a P1 deflection field on a triangulation of the slab.
+
+    vertices: (n, 2) in m; triangles: (t, 3) vertex indices, counter-clockwise,
+    covering the slab with openings excluded; every active yield line lies on
+    triangle edges. w: (n,) deflection, positive downward, normalised so that the
+    factored loads do 1 kNm of work.
+    """
+
+    vertices: np.ndarray
+    triangles: np.ndarray
+    w: np.ndarray
+
+
+@dataclass(frozen=True)
+class Work:
+    """Work balance of the normalised mechanism, kNm."""
+
+    internal: float
+    factored: float
+    held: float
+
+
+@dataclass(frozen=True)
+class SolveStats:
+    """How the solve went."""
+
+    nodes: int              # nodes of the analysis mesh (slab and fill)
+    slab_nodes: int         # of which inside or on the slab
+    candidate_lines: int    # all admissible node-to-node lines
+    lp_lines: int           # lines in the final linear program
+    rounds: int             # LP solves of the adaptive loop
+    max_violation: float    # largest dual violation ratio left (1.0 = none)
+    seconds: float          # wall time of the solve
+    mesh_size: float        # target element size, m
+
+
+@dataclass(frozen=True)
+class CertificateCheck:
+    """Independent re-check of the mechanism (see certificate.py)."""
+
+    load_factor: float        # recomputed from the mechanism field alone
+    internal: float           # kNm
+    factored: float           # kNm, factored-load work
+    held: float               # kNm, held-load work
+    max_support_w: float      # largest |w| at a vertex on a supported edge, m/kNm
+
+
+@dataclass(frozen=True, eq=False)
+class Result:
+    """Outcome of `hingeline.solve`."""
+
+    model: Model
+    load_factor: float
+    yield_lines: YieldLines
+    work: Work
+    mechanism: Mechanism
+    stats: SolveStats
+    certificate: CertificateCheck
+    warnings: tuple[str, ...] = ()
