@@ -114,6 +114,31 @@ def _free_runs(outline: np.ndarray, kinds: np.ndarray) -> list[np.ndarray]:
     return runs
 
 
+def _trimmed(strip, run, outline, width):
+    """Cut the strip of a free run back to the bisector of the outside angle at each end
+    that meets a supported edge, so that the strip never covers that edge."""
+    if np.allclose(run[0], run[-1]):
+        return strip
+    n = len(outline)
+    for end, inner in ((run[0], run[1]), (run[-1], run[-2])):
+        k = int(np.argmin(np.hypot(*(outline - end).T)))
+        # The supported neighbour is the outline vertex next to `end` that is not on the run.
+        nb = outline[(k - 1) % n] if np.allclose(outline[(k + 1) % n], inner) else outline[(k + 1) % n]
+        e_free = (inner - end) / np.hypot(*(inner - end))
+        e_sup = (nb - end) / np.hypot(*(nb - end))
+        # Outside-angle bisector: between e_free and e_sup on the side away from the slab.
+        bis = e_free + e_sup
+        if np.hypot(*bis) < 1e-12:
+            bis = np.array([-e_free[1], e_free[0]])
+        bis /= np.hypot(*bis)
+        if Polygon(outline).contains(shapely.Point(end + 1e-6 * width * bis)):
+            bis = -bis
+        wedge = Polygon([end, end + 4 * width * bis, end + 4 * width * e_sup])
+        if wedge.area > 0:
+            strip = strip.difference(wedge)
+    return strip
+
+
 def _with_margin(outer, outline, kinds, margin, scale):
     tol = 1e-9 * scale
     supported = [LineString(outline[[k, (k + 1) % len(outline)]]) for k in np.flatnonzero(kinds != FREE)]
@@ -122,7 +147,8 @@ def _with_margin(outer, outline, kinds, margin, scale):
     width = margin
     for _ in range(8):
         # Outline is counter-clockwise, so the outside lies to the right: negative single-sided buffer.
-        strips = [LineString(r).buffer(-width, single_sided=True, join_style="bevel") for r in runs]
+        strips = [_trimmed(LineString(r).buffer(-width, single_sided=True, join_style="bevel"), r, outline, width)
+                  for r in runs]
         region = shapely.union_all([outer, *strips]).buffer(0)
         ok = (
             isinstance(region, Polygon)

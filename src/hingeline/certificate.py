@@ -1,0 +1,148 @@
+"""Independent re-check of a mechanism: the certificate behind every load factor.
+
+Given only the model and a P1 deflection field (vertices, triangles, w), this
+recomputes the work equation without any of the solver's lines or coefficients:
+
+- internal work: for every triangle edge, the jump of the slope normal to the edge
+  between its two triangles (or between a triangle and the ground on a supported
+  edge) times the edge length times the capacity normal to the edge, sagging or
+  hogging by the sign of the jump (free edges and opening edges cost nothing;
+  simply supported edges cost nothing; continuous edges cost their hogging capacity);
+- external work: the exact integral of each area load over the P1 field (each
+  triangle clipped to the load's polygon, the linear w integrated over the piece);
+- load factor = (internal - held-load work) / factored-load work.
+
+Units: m, kNm/m, kPa; work in kNm. w positive downward; theta > 0 sagging.
+"""
+from __future__ import annotations
+
+import numpy as np
+import shapely
+
+from .capacity import normal_capacity
+from .model import Model
+from .result import CertificateCheck, Mechanism
+
+
+def _gradients(V, T, w):
+    P = V[T]
+    d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
+    det = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
+    w1, w2 = w[T[:, 1]] - w[T[:, 0]], w[T[:, 2]] - w[T[:, 0]]
+    gx = (w1 * d2[:, 1] - w2 * d1[:, 1]) / det
+    gy = (d1[:, 0] * w2 - d2[:, 0] * w1) / det
+    return np.stack([gx, gy], axis=1)
+
+
+def _supported_edge_of(points_a, points_b, model: Model, tol: float) -> np.ndarray:
+    """For each segment a-b: index of the supported outline edge holding it, or -1."""
+    out = np.full(len(points_a), -1)
+    outline = model.slab.outline
+    for k, kind in enumerate(model.slab.edges):
+        if kind == "free":
+            continue
+        r, s = outline[k], outline[(k + 1) % len(outline)]
+        rs = s - r
+        L = np.hypot(*rs)
+        da = np.abs((points_a - r) @ np.array([-rs[1], rs[0]])) / L
+        db = np.abs((points_b - r) @ np.array([-rs[1], rs[0]])) / L
+        ua = (points_a - r) @ rs / L**2
+        ub = (points_b - r) @ rs / L**2
+        on = (da <= tol) & (db <= tol) & (ua >= -tol / L) & (ua <= 1 + tol / L) & (ub >= -tol / L) & (ub <= 1 + tol / L)
+        out[on & (out < 0)] = k
+    return out
+
+
+def internal_work(model: Model, mech: Mechanism) -> float:
+    """Plastic work of the field's slope jumps, kNm."""
+    V, T, w = mech.vertices, mech.triangles, mech.w
+    scale = float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
+    tol = 1e-8 * scale
+    g = _gradients(V, T, w)
+    ntri = len(T)
+    e = np.concatenate([T[:, [0, 1]], T[:, [1, 2]], T[:, [2, 0]]])
+    opp = np.concatenate([T[:, 2], T[:, 0], T[:, 1]])
+    tri = np.tile(np.arange(ntri), 3)
+    key = np.sort(e, axis=1)
+    order = np.lexsort((key[:, 1], key[:, 0]))
+    key, e, opp, tri = key[order], e[order], opp[order], tri[order]
+    dup = np.all(key[1:] == key[:-1], axis=1)
+    first = np.flatnonzero(dup)          # interior edges: entries first, first + 1
+    single = np.ones(len(key), bool)
+    single[first] = single[first + 1] = False
+
+    cap = model.capacity
+
+    def cost(a, b, jump_theta):
+        t = V[b] - V[a]
+        L = np.hypot(t[:, 0], t[:, 1])
+        n = np.stack([-t[:, 1], t[:, 0]], axis=1) / L[:, None]
+        mp = normal_capacity(cap.sagging, cap.bar_angle, n)
+        mm = normal_capacity(cap.hogging, cap.bar_angle, n)
+        return L, mp, mm, n
+
+    # Interior edges: theta = -(g2 - g1) . nu, nu the unit normal from triangle 1 into triangle 2.
+    a, b = e[first, 0], e[first, 1]
+    L, mp, mm, n = cost(a, b, None)
+    side = np.sign(((V[opp[first + 1]] - V[a]) * n).sum(1))
+    nu = n * side[:, None]
+    theta = -((g[tri[first + 1]] - g[tri[first]]) * nu).sum(1)
+    total = np.sum(L * np.where(theta > 0, mp * theta, -mm * theta))
+
+    # Boundary edges: supported ones hinge against the flat ground (w = 0, zero slope).
+    idx = np.flatnonzero(single)
+    a, b = e[idx, 0], e[idx, 1]
+    sup = _supported_edge_of(V[a], V[b], model, tol)
+    cont = np.array([model.slab.edges[k] == "continuous" if k >= 0 else False for k in sup])
+    if cont.any():
+        a, b, idx = a[cont], b[cont], idx[cont]
+        L, mp, mm, n = cost(a, b, None)
+        side = np.sign(((V[opp[idx]] - V[a]) * n).sum(1))
+        nu = n * side[:, None]           # into the slab
+        theta = -(g[tri[idx]] * nu).sum(1)
+        # Uplift next to a continuous edge (theta > 0) is taken as free (conservative).
+        total += np.sum(L * np.where(theta < 0, -mm * theta, 0.0))
+    return float(total)
+
+
+def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
+    """(factored, held) work of the area loads on the field, kNm (exact for P1)."""
+    V, T, w = mech.vertices, mech.triangles, mech.w
+    g = _gradients(V, T, w)
+    polys = shapely.polygons(V[T])
+    slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
+    factored = held = 0.0
+    for load in model.loads:
+        region = slab if load.region is None else shapely.Polygon(load.region).intersection(slab)
+        pieces = shapely.intersection(polys, region)
+        area = shapely.area(pieces)
+        hit = area > 0
+        c = shapely.get_coordinates(shapely.centroid(pieces[hit]))
+        P0 = V[T[hit, 0]]
+        wc = w[T[hit, 0]] + ((c - P0) * g[hit]).sum(1)
+        work = load.value * float(np.sum(area[hit] * wc))
+        if load.factored:
+            factored += work
+        else:
+            held += work
+    return factored, held
+
+
+def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
+    """Recompute the load factor of `mech` from the field alone (see module docstring)."""
+    internal = internal_work(model, mech)
+    factored, held = load_work(model, mech)
+    scale = float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
+    V = mech.vertices
+    on_sup = np.zeros(len(V), bool)
+    outline = model.slab.outline
+    for k, kind in enumerate(model.slab.edges):
+        if kind == "free":
+            continue
+        r, s = outline[k], outline[(k + 1) % len(outline)]
+        rs = s - r
+        u = np.clip(((V - r) @ rs) / (rs @ rs), 0, 1)
+        on_sup |= np.hypot(*(V - (r + u[:, None] * rs)).T) <= 1e-8 * scale
+    max_w = float(np.abs(mech.w[on_sup]).max(initial=0.0))
+    lf = (internal - held) / factored if factored > 0 else float("nan")
+    return CertificateCheck(lf, internal, factored, held, max_w)

@@ -1,0 +1,195 @@
+"""Mechanism stage: from line rotations to a deflection field and a list of yield lines.
+
+The LP returns a rotation for each line. Here the active lines, together with the
+boundaries of D and of the slab, are split where they cross and triangulated, so
+that no hinge runs through a triangle. Each triangle is then a piece of one rigid
+region; its plane is found by walking from the ground across triangle edges and
+applying the slope jump of every hinge crossed:
+
+    crossing line i (unit normal nu pointing into the new triangle, point x0 on it)
+    w_new(x) = w_old(x) - theta_i nu . (x - x0)      (theta > 0 sagging).
+
+The deflections at the vertices of the slab's triangles form the certificate
+(result.Mechanism) that certificate.py re-checks on its own.
+
+Units: m; w in m per kNm of factored-load work, positive downward.
+"""
+from __future__ import annotations
+
+import logging
+from collections import deque
+
+import meshpy.triangle as triangle
+import numpy as np
+import shapely
+from scipy.spatial import cKDTree
+
+from .candidates import INTERIOR, Candidates, crossings, inside_intervals
+from .errors import SolverError
+from .geometry import CONTINUOUS, SIMPLE, Domain
+from .result import Mechanism, YieldLines
+
+log = logging.getLogger(__name__)
+
+ACTIVE = 1e-10  # |theta| below ACTIVE * max|theta| is taken as zero (solver noise)
+
+
+def active_lines(theta: np.ndarray) -> np.ndarray:
+    """Indices of lines with a rotation above solver noise."""
+    return np.flatnonzero(np.abs(theta) > ACTIVE * np.abs(theta).max())
+
+
+def _merge(points: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
+    """Cluster points closer than tol (m); returns (representatives, cluster of each point)."""
+    parent = np.arange(len(points))
+
+    def root(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for i, j in cKDTree(points).query_pairs(tol):
+        ri, rj = root(i), root(j)
+        if ri != rj:
+            parent[max(ri, rj)] = min(ri, rj)
+    roots = np.array([root(i) for i in range(len(points))])
+    uniq, cluster = np.unique(roots, return_inverse=True)
+    return points[uniq], cluster
+
+
+def _arrangement(nodes, cand: Candidates, lines: np.ndarray, tol: float):
+    """Split `lines` where they cross; returns (points, pieces (k, 2), line of each piece)."""
+    p, q = nodes[cand.a[lines]], nodes[cand.b[lines]]
+    seg = np.stack([p, q], axis=1)
+    i, t, _ = crossings(p, q, seg, tol)
+    pts = np.concatenate([nodes, p[i] + t[:, None] * (q[i] - p[i])])
+    reps, cluster = _merge(pts, tol)
+    n = len(nodes)
+    # Breakpoints per line: its two nodes (t = 0, 1) and its crossings, in order along it.
+    li = np.concatenate([np.arange(len(lines)), i, np.arange(len(lines))])
+    lt = np.concatenate([np.zeros(len(lines)), t, np.ones(len(lines))])
+    lp = np.concatenate([cand.a[lines], n + np.arange(len(i)), cand.b[lines]])
+    order = np.lexsort((lt, li))
+    li, lp = li[order], cluster[lp[order]]
+    same = li[1:] == li[:-1]
+    pieces = np.stack([lp[:-1][same], lp[1:][same]], axis=1)
+    owner = lines[li[:-1][same]]
+    keep = pieces[:, 0] != pieces[:, 1]
+    return reps, pieces[keep], owner[keep]
+
+
+def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
+    """Deflection field of the LP solution on a triangulation of the slab.
+
+    Returns (Mechanism, mismatch) where mismatch is the largest disagreement (m/kNm)
+    between planes meeting at a vertex: a measure of how well the rotations are compatible.
+    """
+    act = active_lines(theta)
+    lines = np.union1d(act, np.flatnonzero(cand.kind != INTERIOR))
+    pts, pieces, owner = _arrangement(nodes, cand, lines, domain.tol)
+
+    info = triangle.MeshInfo()
+    info.set_points(pts.tolist())
+    info.set_facets(pieces.tolist(), facet_markers=(owner + 2).tolist())
+    tm = triangle.build(info, quality_meshing=False, generate_faces=True,
+                        generate_neighbor_lists=True)
+    V = np.array(tm.points, float)
+    T = np.array(tm.elements, np.int64)
+    nbr = np.array(tm.neighbors, np.int64)
+    marker = {}
+    for (u, v), m in zip(tm.faces, tm.face_markers):
+        marker[(min(u, v), max(u, v))] = m
+
+    cen = V[T].mean(axis=1)
+    planes = np.full((len(T), 3), np.nan)  # w = c0 + c1 x + c2 y
+
+    def crossed(plane, line, x0, toward):
+        n = cand.normal[line]
+        nu = n if np.dot(toward - x0, n) > 0 else -n
+        th = theta[line]
+        return plane + np.array([th * nu @ x0, -th * nu[0], -th * nu[1]])
+
+    queue = deque()
+    for k in range(len(T)):
+        for j in range(3):
+            if nbr[k, j] < 0:
+                u, v = T[k, (j + 1) % 3], T[k, (j + 2) % 3]
+                line = marker.get((min(u, v), max(u, v)), 0) - 2
+                if line < 0:
+                    raise SolverError("mechanism triangulation has a boundary edge that is not on D's boundary")
+                planes[k] = crossed(np.zeros(3), line, V[u], cen[k])
+                queue.append(k)
+                break
+    mismatch = 0.0
+    while queue:
+        k = queue.popleft()
+        for j in range(3):
+            o = nbr[k, j]
+            if o < 0:
+                continue
+            u, v = T[k, (j + 1) % 3], T[k, (j + 2) % 3]
+            line = marker.get((min(u, v), max(u, v)), 0) - 2
+            new = planes[k] if line < 0 else crossed(planes[k], line, V[u], cen[o])
+            if np.isnan(planes[o, 0]):
+                planes[o] = new
+                queue.append(o)
+            else:
+                d = np.abs((planes[o] - new) @ np.array([1.0, *V[u]]))
+                mismatch = max(mismatch, d)
+    if np.isnan(planes).any():
+        raise SolverError("mechanism triangulation is not connected to the ground")
+
+    in_slab = shapely.contains_xy(domain.slab, cen[:, 0], cen[:, 1])
+    Ts = T[in_slab]
+    used, Tn = np.unique(Ts, return_inverse=True)
+    Tn = Tn.reshape(-1, 3)
+    wsum = np.zeros(len(V))
+    cnt = np.zeros(len(V))
+    for j in range(3):
+        val = planes[in_slab, 0] + planes[in_slab, 1] * V[Ts[:, j], 0] + planes[in_slab, 2] * V[Ts[:, j], 1]
+        np.add.at(wsum, Ts[:, j], val)
+        np.add.at(cnt, Ts[:, j], 1)
+    w = (wsum / np.maximum(cnt, 1))[used]
+    # Ground is exactly flat: vertices on supported edges carry w = 0 by construction.
+    Vs = V[used]
+    on_support = _on_supported(Vs, domain)
+    w[on_support] = 0.0
+    return Mechanism(Vs, Tn, w), mismatch
+
+
+def _on_supported(points, domain: Domain) -> np.ndarray:
+    sup = np.isin(domain.edge_kind, (SIMPLE, CONTINUOUS))
+    out = np.zeros(len(points), bool)
+    for r, s in domain.edges[sup]:
+        rs = s - r
+        u = np.clip(((points - r) @ rs) / (rs @ rs), 0, 1)
+        out |= np.hypot(*(points - (r + u[:, None] * rs)).T) <= 10 * domain.tol
+    return out
+
+
+def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> YieldLines:
+    """Active hinges inside the slab or along its supported edges, with their work (kNm)."""
+    act = active_lines(theta)
+    act = act[np.isin(cand.kind[act], (INTERIOR, SIMPLE, CONTINUOUS))]
+    p, q = nodes[cand.a[act]], nodes[cand.b[act]]
+    interior = cand.kind[act] == INTERIOR
+    i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, domain.tol)
+    idx_int = np.flatnonzero(interior)[i]
+    idx_bnd = np.flatnonzero(~interior)
+    idx = np.concatenate([idx_int, idx_bnd])
+    ta = np.concatenate([t0, np.zeros(len(idx_bnd))])
+    tb = np.concatenate([t1, np.ones(len(idx_bnd))])
+    line = act[idx]
+    d = q[idx] - p[idx]
+    th = theta[line]
+    frac = (tb - ta) * cand.length[line] / np.where(cand.kind[line] == INTERIOR, cand.slab_length[line], cand.length[line])
+    cost = np.where(th > 0, cand.cost_plus[line], cand.cost_minus[line])
+    return YieldLines(
+        start=p[idx] + ta[:, None] * d,
+        end=p[idx] + tb[:, None] * d,
+        rotation=np.abs(th),
+        sagging=th > 0,
+        dissipation=cost * np.abs(th) * frac,
+        at_support=cand.kind[line] != INTERIOR,
+    )

@@ -1,0 +1,111 @@
+"""The pipeline in one call: model -> domain and mesh -> candidate lines -> LP ->
+mechanism and certificate -> Result.
+
+Units: m, kN, kNm/m, kPa. See the stage modules for the method.
+"""
+from __future__ import annotations
+
+import logging
+import time
+
+import numpy as np
+import shapely
+
+from .candidates import build_candidates
+from .certificate import check_mechanism
+from .errors import SolverError, UnstableSlabError
+from .geometry import build_domain
+from .loadwork import area_load_work, load_polygons, polygon_edges
+from .lp import solve_lp
+from .mechanism import build_mechanism, yield_lines
+from .mesh import mesh_domain, mesh_size_for
+from .model import RESOLUTIONS, Model
+from .result import Result, SolveStats, Work
+
+log = logging.getLogger(__name__)
+
+CERTIFICATE_RTOL = 1e-6  # relative agreement required between LP and certificate
+
+
+def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None) -> Result:
+    """Find the collapse mechanism of `model` with the lowest load factor.
+
+    resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
+    size in m, overriding the resolution. Raises UnstableSlabError when the slab can
+    collapse without resisting, SolverError when the LP fails.
+    """
+    t0 = time.perf_counter()
+    res = resolution or model.analysis.resolution
+    if res not in RESOLUTIONS:
+        raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
+    size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
+
+    domain = build_domain(model, margin=size)
+    mesh = mesh_domain(domain, model, size)
+    nodes = mesh.nodes
+    cand = build_candidates(nodes, domain, model)
+    log.info("mesh: %d nodes, %d candidate lines", len(nodes), len(cand))
+
+    p, q = nodes[cand.a], nodes[cand.b]
+    f = np.zeros(len(cand))
+    g = np.zeros(len(cand))
+    w_total = 0.0
+    for poly, value, factored in load_polygons(model, domain.slab):
+        coef = area_load_work(p, q, polygon_edges(poly), value)
+        if factored:
+            f += coef
+            w_total += value * poly.area
+        else:
+            g += coef
+
+    key = cand.a * len(nodes) + cand.b
+    order = np.argsort(key)
+    mkey = mesh.edges[:, 0] * len(nodes) + mesh.edges[:, 1]
+    pos = np.searchsorted(key, mkey, sorter=order)
+    initial = order[pos]
+    if not np.array_equal(key[initial], mkey):
+        raise SolverError("a mesh edge is missing from the candidate lines")
+
+    cap = model.capacity
+    m_ref = max(*cap.sagging, *cap.hogging)
+    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref)
+    lf = sol.objective
+    # Dimensionless scale of load factors: capacity over total factored load (kNm/m / kN).
+    lf_scale = m_ref / w_total
+    if lf <= 1e-7 * lf_scale:
+        if lf < -1e-7 * lf_scale:
+            raise UnstableSlabError(
+                f"the slab cannot carry its held (unfactored) loads alone: the best mechanism has load "
+                f"factor {lf:.4g} < 0; reduce the held loads or add strength or supports")
+        raise UnstableSlabError(
+            "the slab can move or fold without resisting (load factor 0): a mechanism exists that "
+            "needs no internal work, e.g. a rigid rotation about a single supported edge or folding "
+            "along lines of zero capacity; add supports, make an edge continuous or give capacity")
+
+    theta = sol.theta
+    mech, mismatch = build_mechanism(nodes, cand, theta, domain)
+    lines = yield_lines(nodes, cand, theta, domain)
+    internal = float(np.sum(np.where(theta > 0, cand.cost_plus * theta, -cand.cost_minus * theta)))
+    held = float(g @ theta)
+    factored = float(f @ theta)
+    check = check_mechanism(model, mech)
+
+    warnings = []
+    if abs(check.load_factor - lf) > CERTIFICATE_RTOL * abs(lf):
+        warnings.append(
+            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
+            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / lf:.1e}); "
+            "the larger value is not reliable, report this model to the developers")
+    if sol.max_violation > 1e-7:
+        warnings.append(
+            f"the search for yield lines stopped before proving that no other node-to-node line "
+            f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer resolution "
+            "may give a slightly lower load factor")
+    seconds = time.perf_counter() - t0
+    slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
+    stats = SolveStats(len(nodes), slab_nodes, len(cand), int(sol.in_lp.sum()), sol.rounds,
+                       sol.max_violation, seconds, float(size))
+    log.info("load factor %.6f (certificate %.6f, plane mismatch %.1e), %.2f s",
+             lf, check.load_factor, mismatch, seconds)
+    return Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
+                  tuple(warnings))
