@@ -1,0 +1,49 @@
+"""Every bundled model solves, and its result.json is a certificate that re-checks.
+
+The check reads only the written files: the model file and OUTDIR/result.json.
+It recomputes internal work from the slope jumps of the P1 field and the load
+work by exact integration (certificate.py), and requires the load factor to
+agree with the solver's to 1e-6 relative and w = 0 on every supported edge
+(issue 5; shared/design/solver.md section 4).
+"""
+import json
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+import pytest
+import shapely
+
+import hingeline
+from hingeline.output import write_outputs
+from hingeline.result import Mechanism
+
+ROOT = Path(__file__).resolve().parents[1]
+MODELS = sorted(ROOT.glob("examples/*.toml")) + [Path(str(resources.files("hingeline") / "data" / "demo.toml"))]
+
+
+@pytest.mark.parametrize("path", MODELS, ids=[p.stem for p in MODELS])
+def test_example_certificate(path, tmp_path):
+    model = hingeline.read_model(path)
+    result = hingeline.solve(model)
+    assert result.load_factor > 0
+    write_outputs(result, tmp_path)
+    data = json.loads((tmp_path / "result.json").read_text())
+
+    mech = data["mechanism"]
+    field = Mechanism(np.array(mech["vertices"], float), np.array(mech["triangles"], int), np.array(mech["w"], float))
+    check = hingeline.check_mechanism(hingeline.read_model(path), field)
+    assert check.load_factor == pytest.approx(data["load_factor"], rel=1e-6)
+    assert check.factored == pytest.approx(1.0, rel=1e-6)
+    assert check.max_support_w <= 1e-9 * np.abs(field.w).max()
+
+    # The triangulation covers the slab and nothing else: its area is the slab's.
+    slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
+    P = field.vertices[field.triangles]
+    d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
+    area = 0.5 * np.abs(d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]).sum()
+    assert area == pytest.approx(slab.area, rel=1e-9)
+
+    # Reported yield lines carry the internal work of the mechanism.
+    dissipation = sum(line["dissipation"] for line in data["yield_lines"])
+    assert dissipation == pytest.approx(data["work"]["internal"], rel=1e-6)
