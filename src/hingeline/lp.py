@@ -20,6 +20,8 @@ upper bound, the second only leaves some doubt that more lines could lower it.
 from __future__ import annotations
 
 import logging
+import os
+import sys
 from dataclasses import dataclass
 
 import highspy
@@ -63,8 +65,24 @@ def _columns(cand, f, g, idx, n_nodes):
     return cost, starts.astype(np.int32), indices[nz].astype(np.int32), values[nz]
 
 
+def _highs() -> highspy.Highs:
+    """A HiGHS instance; its licence banner (printed to fd 1 on the first construction in a
+    process) is kept out of the command line's output."""
+    sys.stdout.flush()
+    saved = os.dup(1)
+    try:
+        with open(os.devnull, "w") as null:
+            os.dup2(null.fileno(), 1)
+            h = highspy.Highs()
+    finally:
+        os.dup2(saved, 1)
+        os.close(saved)
+    h.setOptionValue("output_flag", False)
+    return h
+
+
 def _new_model(n_nodes, ipm):
-    h = highspy.Highs()
+    h = _highs()
     h.setOptionValue("output_flag", False)
     h.setOptionValue("primal_feasibility_tolerance", 1e-9)
     h.setOptionValue("dual_feasibility_tolerance", 1e-9)

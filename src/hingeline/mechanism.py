@@ -169,9 +169,11 @@ def _on_supported(points, domain: Domain) -> np.ndarray:
 
 
 def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> YieldLines:
-    """Active hinges inside the slab or along its supported edges, with their work (kNm)."""
+    """Active hinges inside the slab or along continuous edges, with their work (kNm).
+
+    Rotations about simply supported edges are not yield lines (nothing yields) and are left out."""
     act = active_lines(theta)
-    act = act[np.isin(cand.kind[act], (INTERIOR, SIMPLE, CONTINUOUS))]
+    act = act[np.isin(cand.kind[act], (INTERIOR, CONTINUOUS))]
     p, q = nodes[cand.a[act]], nodes[cand.b[act]]
     interior = cand.kind[act] == INTERIOR
     i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, domain.tol)
