@@ -254,6 +254,22 @@ def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[st
     return _fmt_row(vals), notes
 
 
+def _source_state() -> str:
+    """Commit of the tree under test, '+dirty' when src/ differs from it (read-only git calls)."""
+    import subprocess
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    try:
+        head = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=root, capture_output=True,
+                              text=True, timeout=10).stdout.strip()
+        dirty = subprocess.run(["git", "--no-optional-locks", "diff", "--quiet", "HEAD", "--", "src"],
+                               cwd=root, capture_output=True, timeout=10).returncode != 0
+    except (OSError, subprocess.SubprocessError):
+        return "unknown"
+    return (head or "unknown") + ("+dirty" if dirty else "")
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--resolution", choices=["coarse", "normal", "fine"], default=None,
@@ -278,7 +294,8 @@ def main(argv=None) -> int:
 
     header = _fmt_row([c[0] for c in COLUMNS])
     print(f"hingeline reference benchmarks  ({time.strftime('%Y-%m-%d %H:%M')}, "
-          f"{mp.cpu_count()} CPUs, repeat={args.repeat}, Python {sys.version.split()[0]})")
+          f"{mp.cpu_count()} CPUs, repeat={args.repeat}, Python {sys.version.split()[0]}, "
+          f"source {_source_state()})")
     print(header)
     print("-" * len(header))
     all_notes: list[str] = []
