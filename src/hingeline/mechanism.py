@@ -82,8 +82,9 @@ def _arrangement(nodes, cand: Candidates, lines: np.ndarray, tol: float):
 def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
     """Deflection field of the LP solution on a triangulation of the slab.
 
-    Returns (Mechanism, mismatch) where mismatch is the largest disagreement (m/kNm)
-    between planes meeting at a vertex: a measure of how well the rotations are compatible.
+    Returns (Mechanism, mismatch, support_w): mismatch is the largest disagreement (m/kNm)
+    between planes meeting at a vertex (how well the rotations are compatible), support_w
+    the largest |w| found on a supported edge before it is set to exactly 0.
     """
     act = active_lines(theta)
     lines = np.union1d(act, np.flatnonzero(cand.kind != INTERIOR))
@@ -154,8 +155,9 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
     # Ground is exactly flat: vertices on supported edges carry w = 0 by construction.
     Vs = V[used]
     on_support = _on_supported(Vs, domain)
+    support_w = float(np.abs(w[on_support]).max(initial=0.0))
     w[on_support] = 0.0
-    return Mechanism(Vs, Tn, w), mismatch
+    return Mechanism(Vs, Tn, w), mismatch, support_w
 
 
 def _on_supported(points, domain: Domain) -> np.ndarray:

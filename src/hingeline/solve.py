@@ -83,7 +83,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             "along lines of zero capacity; add supports, make an edge continuous or give capacity")
 
     theta = sol.theta
-    mech, mismatch = build_mechanism(nodes, cand, theta, domain)
+    mech, mismatch, support_w = build_mechanism(nodes, cand, theta, domain)
     lines = yield_lines(nodes, cand, theta, domain)
     internal = float(np.sum(np.where(theta > 0, cand.cost_plus * theta, -cand.cost_minus * theta)))
     held = float(g @ theta)
@@ -96,6 +96,12 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
             f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / lf:.1e}); "
             "the larger value is not reliable, report this model to the developers")
+    w_max = float(np.abs(mech.w).max())
+    if mismatch > 1e-8 * w_max or support_w > 1e-8 * w_max:
+        warnings.append(
+            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
+            f"|w| on supports reaches {support_w:.1e} (largest |w| {w_max:.1e}); report this model "
+            "to the developers")
     if sol.max_violation > 1e-7:
         warnings.append(
             f"the search for yield lines stopped before proving that no other node-to-node line "
