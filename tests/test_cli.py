@@ -2,8 +2,8 @@
 
 Tests marked "fake solver" replace `hingeline.solve` with a stand-in returning a
 hand-built Result (a fan of triangles over the model's outline) to exercise the
-command-line mechanics only; their numbers mean nothing structurally. The tests
-using the real solver skip until `hingeline.solve` exists.
+command-line mechanics only; their numbers mean nothing structurally. The last
+two tests run the real solver end to end.
 """
 from __future__ import annotations
 
@@ -259,11 +259,10 @@ def test_demo_custom_folder(tmp_path, capsys, fake_solver):
     assert (tmp_path / "mine" / "result.json").is_file()
 
 
-# --- real solver (skipped until hingeline.solve lands) -----------------------
+# --- real solver --------------------------------------------------------------
 
 
 def test_demo_end_to_end_with_solver(tmp_path, capsys):
-    pytest.importorskip("hingeline.solve")
     from hingeline.output import certificate_agrees  # noqa: F401  (used via the printed verdict)
 
     code = main(["demo", "-o", str(tmp_path / "demo")])
@@ -279,7 +278,6 @@ def test_demo_end_to_end_with_solver(tmp_path, capsys):
 
 
 def test_solve_end_to_end_with_solver(tmp_path, capsys):
-    pytest.importorskip("hingeline.solve")
     model = write_model(tmp_path, GOOD_MODEL)
     code = main(["solve", str(model), "-o", str(tmp_path / "out")])
     out = capsys.readouterr().out
