@@ -20,7 +20,7 @@ import numpy as np
 import shapely
 
 from .capacity import normal_capacity
-from .geometry import CONTINUOUS, MARGIN, Domain
+from .geometry import CONTINUOUS, MARGIN, Domain, segment_distance
 from .model import Model
 
 INTERIOR = -1
@@ -137,18 +137,6 @@ def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, t
     return i0[inside], t0[inside], t1[inside]
 
 
-def _on_edges(points: np.ndarray, edges: np.ndarray, tol: float) -> np.ndarray:
-    """(n, e) bool: point lies on edge (within tol, m)."""
-    r, s = edges[:, 0], edges[:, 1]
-    rs = s - r
-    l2 = (rs**2).sum(1)
-    rel = points[:, None, :] - r[None]
-    u = (rel * rs[None]).sum(-1) / l2
-    u = np.clip(u, 0.0, 1.0)
-    foot = r[None] + u[..., None] * rs[None]
-    return np.hypot(*(points[:, None, :] - foot).transpose(2, 0, 1)) <= tol
-
-
 def _shared_edge(on: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Index of an edge holding both nodes a and b, or -1."""
     out = np.full(len(a), -1)
@@ -168,10 +156,10 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
     p, q = nodes[a], nodes[b]
 
     # Lines on the slab boundary or on the boundary of D.
-    slab_edge = _shared_edge(_on_edges(nodes, domain.edges, 10 * tol), a, b)
+    slab_edge = _shared_edge(segment_distance(nodes, domain.edges) <= 10 * tol, a, b)
     bnd = domain.boundary
     d_edges = np.stack([bnd, np.roll(bnd, -1, axis=0)], axis=1)
-    on_d = _shared_edge(_on_edges(nodes, d_edges, 10 * tol), a, b) >= 0
+    on_d = _shared_edge(segment_distance(nodes, d_edges) <= 10 * tol, a, b) >= 0
     kind = np.full(len(a), INTERIOR)
     kind[on_d] = MARGIN
     kind[slab_edge >= 0] = domain.edge_kind[slab_edge[slab_edge >= 0]]

@@ -21,45 +21,38 @@ import shapely
 
 from .capacity import normal_capacity
 from .errors import SolverError
+from .geometry import segment_distance
 from .model import Model
 from .result import CertificateCheck, Mechanism
 
 
 def _gradients(V, T, w):
+    """Slopes (t, 2) of the P1 field on each triangle and the triangles' areas (t,), m2."""
     P = V[T]
     d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
     det = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
     w1, w2 = w[T[:, 1]] - w[T[:, 0]], w[T[:, 2]] - w[T[:, 0]]
     gx = (w1 * d2[:, 1] - w2 * d1[:, 1]) / det
     gy = (d1[:, 0] * w2 - d2[:, 0] * w1) / det
-    return np.stack([gx, gy], axis=1)
+    return np.stack([gx, gy], axis=1), 0.5 * np.abs(det)
 
 
-def _supported_edge_of(points_a, points_b, model: Model, tol: float) -> np.ndarray:
-    """For each segment a-b: index of the supported outline edge holding it, or -1."""
-    out = np.full(len(points_a), -1)
+def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
+    """Supported outline edges (s, 2, 2) and whether each is continuous (s,)."""
     outline = model.slab.outline
-    for k, kind in enumerate(model.slab.edges):
-        if kind == "free":
-            continue
-        r, s = outline[k], outline[(k + 1) % len(outline)]
-        rs = s - r
-        L = np.hypot(*rs)
-        da = np.abs((points_a - r) @ np.array([-rs[1], rs[0]])) / L
-        db = np.abs((points_b - r) @ np.array([-rs[1], rs[0]])) / L
-        ua = (points_a - r) @ rs / L**2
-        ub = (points_b - r) @ rs / L**2
-        on = (da <= tol) & (db <= tol) & (ua >= -tol / L) & (ua <= 1 + tol / L) & (ub >= -tol / L) & (ub <= 1 + tol / L)
-        out[on & (out < 0)] = k
-    return out
+    ks = [k for k, kind in enumerate(model.slab.edges) if kind != "free"]
+    edges = np.array([[outline[k], outline[(k + 1) % len(outline)]] for k in ks]).reshape(-1, 2, 2)
+    return edges, np.array([model.slab.edges[k] == "continuous" for k in ks], bool)
+
+
+def _tolerance(model: Model) -> float:
+    return 1e-8 * float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
 
 
 def internal_work(model: Model, mech: Mechanism) -> float:
     """Plastic work of the field's slope jumps, kNm."""
     V, T, w = mech.vertices, mech.triangles, mech.w
-    scale = float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
-    tol = 1e-8 * scale
-    g = _gradients(V, T, w)
+    g, _ = _gradients(V, T, w)
     ntri = len(T)
     e = np.concatenate([T[:, [0, 1]], T[:, [1, 2]], T[:, [2, 0]]])
     opp = np.concatenate([T[:, 2], T[:, 0], T[:, 1]])
@@ -74,7 +67,8 @@ def internal_work(model: Model, mech: Mechanism) -> float:
 
     cap = model.capacity
 
-    def cost(a, b, jump_theta):
+    def geometry(a, b):
+        """Lengths (m), sagging and hogging capacities normal to the edges (kNm/m), normals."""
         t = V[b] - V[a]
         L = np.hypot(t[:, 0], t[:, 1])
         n = np.stack([-t[:, 1], t[:, 0]], axis=1) / L[:, None]
@@ -84,7 +78,7 @@ def internal_work(model: Model, mech: Mechanism) -> float:
 
     # Interior edges: theta = -(g2 - g1) . nu, nu the unit normal from triangle 1 into triangle 2.
     a, b = e[first, 0], e[first, 1]
-    L, mp, mm, n = cost(a, b, None)
+    L, mp, mm, n = geometry(a, b)
     side = np.sign(((V[opp[first + 1]] - V[a]) * n).sum(1))
     nu = n * side[:, None]
     theta = -((g[tri[first + 1]] - g[tri[first]]) * nu).sum(1)
@@ -93,11 +87,13 @@ def internal_work(model: Model, mech: Mechanism) -> float:
     # Boundary edges: supported ones hinge against the flat ground (w = 0, zero slope).
     idx = np.flatnonzero(single)
     a, b = e[idx, 0], e[idx, 1]
-    sup = _supported_edge_of(V[a], V[b], model, tol)
-    cont = np.array([model.slab.edges[k] == "continuous" if k >= 0 else False for k in sup])
+    sup_edges, continuous = _supported_edges(model)
+    tol = _tolerance(model)
+    on = (segment_distance(V[a], sup_edges) <= tol) & (segment_distance(V[b], sup_edges) <= tol)
+    cont = (on & continuous[None, :]).any(axis=1)
     if cont.any():
         a, b, idx = a[cont], b[cont], idx[cont]
-        L, mp, mm, n = cost(a, b, None)
+        L, mp, mm, n = geometry(a, b)
         side = np.sign(((V[opp[idx]] - V[a]) * n).sum(1))
         nu = n * side[:, None]           # into the slab
         theta = -(g[tri[idx]] * nu).sum(1)
@@ -109,12 +105,10 @@ def internal_work(model: Model, mech: Mechanism) -> float:
 def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
     """(factored, held) work of the area loads on the field, kNm (exact for P1)."""
     V, T, w = mech.vertices, mech.triangles, mech.w
-    g = _gradients(V, T, w)
+    g, tri_area = _gradients(V, T, w)
     polys = shapely.polygons(V[T])
-    tol = 1e-9 * float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
+    tol = 0.1 * _tolerance(model)
     slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
-    tri_area = 0.5 * np.abs(np.cross(np.c_[V[T[:, 1]] - V[T[:, 0]], np.zeros(len(T))],
-                                     np.c_[V[T[:, 2]] - V[T[:, 0]], np.zeros(len(T))])[:, 2])
     tri_centroid = V[T].mean(axis=1)
     factored = held = 0.0
     for load in model.loads:
@@ -147,17 +141,8 @@ def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
     """Recompute the load factor of `mech` from the field alone (see module docstring)."""
     internal = internal_work(model, mech)
     factored, held = load_work(model, mech)
-    scale = float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
-    V = mech.vertices
-    on_sup = np.zeros(len(V), bool)
-    outline = model.slab.outline
-    for k, kind in enumerate(model.slab.edges):
-        if kind == "free":
-            continue
-        r, s = outline[k], outline[(k + 1) % len(outline)]
-        rs = s - r
-        u = np.clip(((V - r) @ rs) / (rs @ rs), 0, 1)
-        on_sup |= np.hypot(*(V - (r + u[:, None] * rs)).T) <= 1e-8 * scale
+    sup_edges, _ = _supported_edges(model)
+    on_sup = (segment_distance(mech.vertices, sup_edges) <= _tolerance(model)).any(axis=1)
     max_w = float(np.abs(mech.w[on_sup]).max(initial=0.0))
     lf = (internal - held) / factored if factored > 0 else float("nan")
     return CertificateCheck(lf, internal, factored, held, max_w)

@@ -55,6 +55,15 @@ class Domain:
         return 1e-9 * self.scale
 
 
+def segment_distance(points: np.ndarray, edges: np.ndarray) -> np.ndarray:
+    """(n, e) distances in m from points (n, 2) to segments edges (e, 2, 2)."""
+    r, s = edges[:, 0], edges[:, 1]
+    rs = s - r
+    u = ((points[:, None, :] - r[None]) * rs[None]).sum(-1) / (rs**2).sum(1)
+    foot = r[None] + np.clip(u, 0.0, 1.0)[..., None] * rs[None]
+    return np.hypot(*(points[:, None, :] - foot).transpose(2, 0, 1))
+
+
 def _closed_edges(poly: np.ndarray) -> np.ndarray:
     return np.stack([poly, np.roll(poly, -1, axis=0)], axis=1)
 

@@ -26,7 +26,7 @@ from scipy.spatial import cKDTree
 
 from .candidates import INTERIOR, Candidates, crossings, inside_intervals
 from .errors import SolverError
-from .geometry import CONTINUOUS, SIMPLE, Domain
+from .geometry import CONTINUOUS, SIMPLE, Domain, segment_distance
 from .result import Mechanism, YieldLines
 
 log = logging.getLogger(__name__)
@@ -162,12 +162,7 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
 
 def _on_supported(points, domain: Domain) -> np.ndarray:
     sup = np.isin(domain.edge_kind, (SIMPLE, CONTINUOUS))
-    out = np.zeros(len(points), bool)
-    for r, s in domain.edges[sup]:
-        rs = s - r
-        u = np.clip(((points - r) @ rs) / (rs @ rs), 0, 1)
-        out |= np.hypot(*(points - (r + u[:, None] * rs)).T) <= 10 * domain.tol
-    return out
+    return (segment_distance(points, domain.edges[sup]) <= 10 * domain.tol).any(axis=1)
 
 
 def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> YieldLines:
