@@ -16,6 +16,9 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import connected_components
+from scipy.spatial import cKDTree
 from shapely.geometry import LineString, MultiLineString, Polygon
 
 from .errors import ModelError
@@ -62,6 +65,16 @@ def segment_distance(points: np.ndarray, edges: np.ndarray) -> np.ndarray:
     u = ((points[:, None, :] - r[None]) * rs[None]).sum(-1) / (rs**2).sum(1)
     foot = r[None] + np.clip(u, 0.0, 1.0)[..., None] * rs[None]
     return np.hypot(*(points[:, None, :] - foot).transpose(2, 0, 1))
+
+
+def merge_points(points: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
+    """Cluster points closer than tol (m); returns (one point per cluster, cluster of each point)."""
+    pairs = cKDTree(points).query_pairs(tol, output_type="ndarray")
+    n = len(points)
+    graph = coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(n, n))
+    _, cluster = connected_components(graph, directed=False)
+    _, first = np.unique(cluster, return_index=True)
+    return points[first], cluster
 
 
 def _closed_edges(poly: np.ndarray) -> np.ndarray:

@@ -22,11 +22,10 @@ from collections import deque
 import meshpy.triangle as triangle
 import numpy as np
 import shapely
-from scipy.spatial import cKDTree
 
 from .candidates import INTERIOR, Candidates, crossings, inside_intervals
 from .errors import SolverError
-from .geometry import CONTINUOUS, SIMPLE, Domain, segment_distance
+from .geometry import CONTINUOUS, SIMPLE, Domain, merge_points, segment_distance
 from .result import Mechanism, YieldLines
 
 log = logging.getLogger(__name__)
@@ -39,32 +38,13 @@ def active_lines(theta: np.ndarray) -> np.ndarray:
     return np.flatnonzero(np.abs(theta) > ACTIVE * np.abs(theta).max())
 
 
-def _merge(points: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
-    """Cluster points closer than tol (m); returns (representatives, cluster of each point)."""
-    parent = np.arange(len(points))
-
-    def root(i):
-        while parent[i] != i:
-            parent[i] = parent[parent[i]]
-            i = parent[i]
-        return i
-
-    for i, j in cKDTree(points).query_pairs(tol):
-        ri, rj = root(i), root(j)
-        if ri != rj:
-            parent[max(ri, rj)] = min(ri, rj)
-    roots = np.array([root(i) for i in range(len(points))])
-    uniq, cluster = np.unique(roots, return_inverse=True)
-    return points[uniq], cluster
-
-
 def _arrangement(nodes, cand: Candidates, lines: np.ndarray, tol: float):
     """Split `lines` where they cross; returns (points, pieces (k, 2), line of each piece)."""
     p, q = nodes[cand.a[lines]], nodes[cand.b[lines]]
     seg = np.stack([p, q], axis=1)
     i, t, _ = crossings(p, q, seg, tol)
     pts = np.concatenate([nodes, p[i] + t[:, None] * (q[i] - p[i])])
-    reps, cluster = _merge(pts, tol)
+    reps, cluster = merge_points(pts, tol)
     n = len(nodes)
     # Breakpoints per line: its two nodes (t = 0, 1) and its crossings, in order along it.
     li = np.concatenate([np.arange(len(lines)), i, np.arange(len(lines))])

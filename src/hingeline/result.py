@@ -77,7 +77,7 @@ class SolveStats:
     candidate_lines: int    # all admissible node-to-node lines
     lp_lines: int           # lines in the final linear program
     rounds: int             # LP solves of the adaptive loop
-    max_violation: float    # largest dual violation ratio left (1.0 = none)
+    max_violation: float    # largest reduced-cost violation left, per unit length and capacity (0 = none: optimal over all candidate lines)
     seconds: float          # wall time of the solve
     mesh_size: float        # target element size, m
 
