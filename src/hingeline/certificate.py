@@ -104,13 +104,21 @@ def internal_work(model: Model, mech: Mechanism) -> float:
 
 def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
     """(factored, held) work of the area loads on the field, kNm (exact for P1)."""
+    works = work_per_load(model, mech)
+    factored = sum(wk for wk, load in zip(works, model.loads) if load.factored)
+    held = sum(wk for wk, load in zip(works, model.loads) if not load.factored)
+    return factored, held
+
+
+def work_per_load(model: Model, mech: Mechanism) -> list[float]:
+    """Work of each load of model.loads on the field, kNm (exact for P1), in model order."""
     V, T, w = mech.vertices, mech.triangles, mech.w
     g, tri_area = _gradients(V, T, w)
     polys = shapely.polygons(V[T])
     tol = 0.1 * _tolerance(model)
     slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
     tri_centroid = V[T].mean(axis=1)
-    factored = held = 0.0
+    works = []
     for load in model.loads:
         region = slab if load.region is None else shapely.Polygon(load.region).intersection(slab)
         # Triangles inside the region (to round-off: vertices on a boundary are computed
@@ -129,12 +137,8 @@ def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
             raise SolverError(f"certificate check: load '{load.name}': the mechanism's triangles cover {area.sum():.9g} m2 "
                              f"of its {region.area:.9g} m2")
         wc = w[T[:, 0]] + ((c - V[T[:, 0]]) * g).sum(1)
-        work = load.value * float(np.sum(area * wc))
-        if load.factored:
-            factored += work
-        else:
-            held += work
-    return factored, held
+        works.append(load.value * float(np.sum(area * wc)))
+    return works
 
 
 def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
