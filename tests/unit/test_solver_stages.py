@@ -84,3 +84,9 @@ def test_held_load_lowers_load_factor_by_its_share():
     m1 = hingeline.model_from_toml(BASE.format(edges='"simple"', hogging=10.0, extra=held))
     r0, r1 = hingeline.solve(m0), hingeline.solve(m1)
     assert r1.load_factor == pytest.approx(r0.load_factor - 2.0 / 5.0, rel=1e-6)
+
+
+def test_too_fine_mesh_is_refused_with_a_message():
+    big = BASE.format(edges='"simple"', hogging=10.0, extra="").replace('resolution = "coarse"', "mesh_size = 0.02")
+    with pytest.raises(hingeline.ModelError, match="mesh_size"):
+        hingeline.solve(hingeline.model_from_toml(big))
