@@ -25,7 +25,7 @@ from .result import Result, SolveStats, Work
 log = logging.getLogger(__name__)
 
 CERTIFICATE_RTOL = 1e-6
-# Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.3 GB (measured).
+# Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.2 GB (measured on random points).
 # The LP time grows faster still: 1068 nodes took about 1 minute.
 MAX_NODES = 3000  # relative agreement required between LP and certificate
 
