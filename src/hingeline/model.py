@@ -21,6 +21,7 @@ import shapely
 from shapely.geometry import Polygon
 from shapely.ops import nearest_points
 
+from . import eurocode
 from .errors import ModelError
 
 EDGE_KINDS = ("simple", "continuous", "free")
@@ -56,6 +57,8 @@ class Capacity:
     sagging: tuple[float, float]
     hogging: tuple[float, float]
     bar_angle: float = 0.0
+    layers: tuple = ()               # eurocode.LayerCapacity per bar layer, when given as bars
+    warnings: tuple[str, ...] = ()   # EN 1992-1-1 5.6.2 checks of the bar schedule
 
 
 @dataclass(frozen=True, eq=False)
@@ -115,7 +118,9 @@ class Model:
 TOP_KEYS = ("title", "slab", "capacity", "load", "analysis")
 SLAB_KEYS = ("outline", "edges", "thickness", "opening")
 OPENING_KEYS = ("polygon",)
-CAPACITY_KEYS = ("sagging", "hogging", "bar_angle")
+CAPACITY_KEYS = ("sagging", "hogging", "bar_angle", "bars")
+BARS_KEYS = ("concrete", "steel", "gamma_c", "gamma_s", "alpha_cc", "bottom_1", "bottom_2", "top_1", "top_2")
+LAYER_KEYS = ("diameter", "spacing", "cover")
 ANALYSIS_KEYS = ("resolution", "mesh_size")
 # Keys allowed in a [[load]] table, per load type.
 LOAD_KEYS = {
@@ -198,7 +203,7 @@ def _parse(data: Any) -> Model:
 
     cap_t = _required_table(data, "capacity", "add a [capacity] table with at least sagging = <kNm/m>")
     _check_keys(cap_t, CAPACITY_KEYS, "[capacity]")
-    capacity = _parse_capacity(cap_t)
+    capacity = _parse_capacity(cap_t, slab.thickness)
 
     loads = _parse_loads(data.get("load"), geo)
 
@@ -327,11 +332,17 @@ def _parse_slab(t: dict) -> tuple[Slab, _Geometry]:
     return slab, _Geometry(outline_poly, opening_polys, tol)
 
 
-def _parse_capacity(t: dict) -> Capacity:
+def _parse_capacity(t: dict, thickness: float | None) -> Capacity:
+    bar_angle = _number(t.get("bar_angle", 0.0), "capacity.bar_angle", "degrees")
+    if "bars" in t:
+        if "sagging" in t or "hogging" in t:
+            raise _Invalid("[capacity] gives both bars and sagging/hogging; give one of them "
+                           "(bars computes the capacities by EN 1992-1-1)")
+        return _parse_bars(t["bars"], thickness, bar_angle)
     if "sagging" not in t:
         raise _Invalid(
             "[capacity] has no sagging; add sagging = <kNm/m> (bottom bars, one number or a pair "
-            "for bar directions 1 and 2)"
+            "for bar directions 1 and 2), or a [capacity.bars] bar schedule"
         )
     sagging = _moment_pair(t["sagging"], "capacity.sagging")
     hogging = _moment_pair(t.get("hogging", 0.0), "capacity.hogging")
@@ -340,8 +351,58 @@ def _parse_capacity(t: dict) -> Capacity:
             "[capacity]: no positive capacity (sagging and hogging are all 0); "
             "give the moment capacity of the bottom bars in capacity.sagging (kNm/m)"
         )
-    bar_angle = _number(t.get("bar_angle", 0.0), "capacity.bar_angle", "degrees")
     return Capacity(sagging=sagging, hogging=hogging, bar_angle=bar_angle)
+
+
+def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
+    """Capacities from a bar schedule (EN 1992-1-1, see eurocode.py)."""
+    if not isinstance(t, dict):
+        raise _Invalid(f"capacity.bars must be a table [capacity.bars], got {_show(t)}")
+    _check_keys(t, BARS_KEYS, "[capacity.bars]")
+    if thickness is None:
+        raise _Invalid("[capacity.bars] needs the slab thickness: add thickness = <m> to [slab]")
+    for key, table in (("concrete", eurocode.CONCRETE), ("steel", eurocode.STEEL)):
+        if key not in t:
+            raise _Invalid(f"[capacity.bars] has no {key}; add {key} = one of {_words(table)}")
+        if t[key] not in table:
+            raise _Invalid(f"capacity.bars.{key} = {_show(t[key])} is not a known grade; use one of {_words(table)}")
+    factors = {k: _number(t.get(k, d), f"capacity.bars.{k}", "") for k, d in
+               (("gamma_c", 1.5), ("gamma_s", 1.15), ("alpha_cc", 1.0))}
+    for k, v in factors.items():
+        if v <= 0:
+            raise _Invalid(f"capacity.bars.{k} = {_fmt(v)} must be > 0")
+    mat = eurocode.Materials(t["concrete"], t["steel"], **factors)
+    layers = {}
+    try:
+        for name in eurocode.LAYERS:
+            if name not in t:
+                continue
+            lt = t[name]
+            where = f"capacity.bars.{name}"
+            if not isinstance(lt, dict):
+                raise _Invalid(f"{where} must be a table {{diameter = <mm>, spacing = <mm>, cover = <mm>}}")
+            _check_keys(lt, LAYER_KEYS, f"{where}")
+            vals = {}
+            for k in LAYER_KEYS:
+                if k not in lt:
+                    raise _Invalid(f"{where} has no {k}; give diameter, spacing and cover in mm")
+                vals[k] = _number(lt[k], f"{where}.{k}", "mm")
+                if vals[k] <= 0 and k != "cover":
+                    raise _Invalid(f"{where}.{k} = {_fmt(vals[k])} mm must be > 0")
+                if vals[k] < 0:
+                    raise _Invalid(f"{where}.{k} = {_fmt(vals[k])} mm must not be negative")
+            layers[name] = eurocode.layer_capacity(eurocode.BarLayer(name, **vals), thickness * 1000.0, mat)
+    except ModelError as exc:
+        raise _Invalid(str(exc)) from None
+    if "bottom_1" not in layers and "bottom_2" not in layers:
+        raise _Invalid("[capacity.bars] has no bottom bars; give bottom_1 and/or bottom_2")
+
+    def moment(name):
+        return layers[name].moment if name in layers else 0.0
+
+    return Capacity(sagging=(moment("bottom_1"), moment("bottom_2")),
+                    hogging=(moment("top_1"), moment("top_2")), bar_angle=bar_angle,
+                    layers=tuple(layers.values()), warnings=tuple(eurocode.schedule_warnings(layers, mat)))
 
 
 def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:

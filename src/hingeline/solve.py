@@ -98,7 +98,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     factored = float(f @ theta)
     check = check_mechanism(model, mech)
 
-    warnings = []
+    warnings = list(model.capacity.warnings)
     if abs(check.load_factor - lf) > CERTIFICATE_RTOL * abs(lf):
         warnings.append(
             f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
