@@ -59,6 +59,8 @@ class Capacity:
     bar_angle: float = 0.0
     layers: tuple = ()               # eurocode.LayerCapacity per bar layer, when given as bars
     warnings: tuple[str, ...] = ()   # EN 1992-1-1 5.6.2 checks of the bar schedule
+    bars: tuple = ()                 # eurocode.BarLayer as given, when given as bars
+    materials: object = None         # eurocode.Materials, when given as bars
 
 
 @dataclass(frozen=True, eq=False)
@@ -372,7 +374,7 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
         if v <= 0:
             raise _Invalid(f"capacity.bars.{k} = {_fmt(v)} must be > 0")
     mat = eurocode.Materials(t["concrete"], t["steel"], **factors)
-    layers = {}
+    layers, bars = {}, []
     try:
         for name in eurocode.LAYERS:
             if name not in t:
@@ -391,7 +393,8 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
                     raise _Invalid(f"{where}.{k} = {_fmt(vals[k])} mm must be > 0")
                 if vals[k] < 0:
                     raise _Invalid(f"{where}.{k} = {_fmt(vals[k])} mm must not be negative")
-            layers[name] = eurocode.layer_capacity(eurocode.BarLayer(name, **vals), thickness * 1000.0, mat)
+            bars.append(eurocode.BarLayer(name, **vals))
+            layers[name] = eurocode.layer_capacity(bars[-1], thickness * 1000.0, mat)
     except ModelError as exc:
         raise _Invalid(str(exc)) from None
     if "bottom_1" not in layers and "bottom_2" not in layers:
@@ -402,7 +405,8 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
 
     return Capacity(sagging=(moment("bottom_1"), moment("bottom_2")),
                     hogging=(moment("top_1"), moment("top_2")), bar_angle=bar_angle,
-                    layers=tuple(layers.values()), warnings=tuple(eurocode.schedule_warnings(layers, mat)))
+                    layers=tuple(layers.values()), warnings=tuple(eurocode.schedule_warnings(layers, mat)),
+                    bars=tuple(bars), materials=mat)
 
 
 def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:

@@ -1,0 +1,71 @@
+"""Design mode: the capacity scale for a target load factor."""
+import pytest
+
+import hingeline
+from hingeline.design import required_scale
+
+SQUARE = """
+[slab]
+outline = [[0, 0], [1, 0], [1, 1], [0, 1]]
+edges = "simple"
+thickness = 0.2
+[capacity]
+sagging = 1.0
+hogging = 1.0
+[[load]]
+type = "area"
+value = 48.0
+[analysis]
+resolution = "coarse"
+"""
+
+
+def test_simply_supported_square_needs_q_L2_over_24():
+    # Johansen: the simply supported square (m' = m) carries q = 24 m / L^2, so q = 48 kPa on
+    # L = 1 m needs m = 2 kNm/m: a scale of 2 on m = 1; a target load factor of 1.5 needs 3.
+    d = required_scale(hingeline.model_from_toml(SQUARE))
+    assert d.scale == pytest.approx(2.0, rel=1e-6)
+    d15 = required_scale(hingeline.model_from_toml(SQUARE), target=1.5)
+    assert d15.scale == pytest.approx(3.0, rel=1e-6)
+
+
+def test_scaled_capacities_reach_the_target_with_held_loads():
+    # The defining property (module docstring): after scaling every capacity by s, the solver's
+    # load factor equals the target, held loads included (same mesh, same candidates).
+    text = SQUARE.replace("value = 48.0", 'value = 30.0\n[[load]]\ntype = "area"\nvalue = 12.0\nfactored = false')
+    m = hingeline.model_from_toml(text)
+    d = required_scale(m, target=1.2)
+    scaled = hingeline.model_from_toml(text.replace("sagging = 1.0\nhogging = 1.0",
+                                                    f"sagging = {d.scale!r}\nhogging = {d.scale!r}"))
+    assert hingeline.solve(scaled).load_factor == pytest.approx(1.2, rel=1e-6)
+
+
+BARS = """
+[slab]
+outline = [[0, 0], [5, 0], [5, 4], [0, 4]]
+edges = "continuous"
+thickness = 0.2
+[capacity.bars]
+concrete = "C30/37"
+steel = "B500B"
+bottom_1 = {diameter = 10, spacing = 250, cover = 25}
+bottom_2 = {diameter = 10, spacing = 250, cover = 35}
+top_1 = {diameter = 10, spacing = 250, cover = 25}
+top_2 = {diameter = 10, spacing = 250, cover = 35}
+[[load]]
+type = "area"
+value = 60.0
+[analysis]
+resolution = "coarse"
+"""
+
+
+def test_bar_proposal_reaches_the_required_moment():
+    m = hingeline.model_from_toml(BARS)
+    d = required_scale(m)
+    assert d.scale > 1  # H10 @ 250 is too light for 60 kPa on a 4 m span (scale 0.51 at 25 kPa)
+    assert len(d.proposals) == 4
+    for p, lc in zip(d.proposals, m.capacity.layers):
+        assert p.required == pytest.approx(d.scale * lc.moment)
+        assert p.moment >= p.required
+        assert p.spacing <= 300 and p.spacing % 25 == 0
