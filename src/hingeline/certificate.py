@@ -120,6 +120,12 @@ def work_per_load(model: Model, mech: Mechanism) -> list[float]:
     tri_centroid = V[T].mean(axis=1)
     works = []
     for load in model.loads:
+        if hasattr(load, "at"):
+            works.append(load.value * float(_field_at(V, T, w, g, np.asarray(load.at, float)[None, :])[0]))
+            continue
+        if hasattr(load, "path"):
+            works.append(load.value * _path_integral(V, T, w, g, np.asarray(load.path, float)))
+            continue
         region = slab if load.region is None else shapely.Polygon(load.region).intersection(slab)
         # Triangles inside the region (to round-off: vertices on a boundary are computed
         # crossings) are taken whole; GEOS overlay was seen to return a MultiPoint for such a
@@ -139,6 +145,41 @@ def work_per_load(model: Model, mech: Mechanism) -> list[float]:
         wc = w[T[:, 0]] + ((c - V[T[:, 0]]) * g).sum(1)
         works.append(load.value * float(np.sum(area * wc)))
     return works
+
+
+def _field_at(V, T, w, g, pts: np.ndarray) -> np.ndarray:
+    """w of the P1 field at points (k, 2) lying on the triangulation (any containing triangle)."""
+    P = V[T]
+    out = np.full(len(pts), np.nan)
+    d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
+    det = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
+    for k, c in enumerate(pts):
+        r = c - P[:, 0]
+        b1 = (r[:, 0] * d2[:, 1] - r[:, 1] * d2[:, 0]) / det
+        b2 = (d1[:, 0] * r[:, 1] - d1[:, 1] * r[:, 0]) / det
+        bary = np.minimum(np.minimum(b1, b2), 1 - b1 - b2)
+        j = int(np.argmax(bary))
+        if bary[j] < -1e-9:
+            raise SolverError(f"certificate check: point {c.tolist()} lies outside the mechanism's triangles")
+        out[k] = w[T[j, 0]] + r[j] @ g[j]
+    return out
+
+
+def _path_integral(V, T, w, g, path: np.ndarray) -> float:
+    """Integral of the P1 field along a polyline (m * w): exact, the path is split at every
+    triangle edge it crosses and w is linear on each piece."""
+    from .candidates import crossings
+
+    e = np.concatenate([T[:, [0, 1]], T[:, [1, 2]], T[:, [2, 0]]])
+    e = np.unique(np.sort(e, axis=1), axis=0)
+    edges = V[e]
+    total = 0.0
+    for a, b in zip(path[:-1], path[1:]):
+        _, t, _ = crossings(a[None, :], b[None, :], edges, 1e-12 * float(np.ptp(V).max()))
+        t = np.unique(np.concatenate([[0.0, 1.0], t]))
+        mids = a + 0.5 * (t[:-1] + t[1:])[:, None] * (b - a)
+        total += float(np.sum(_field_at(V, T, w, g, mids) * np.diff(t))) * float(np.hypot(*(b - a)))
+    return total
 
 
 def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:

@@ -78,10 +78,94 @@ def area_load_work(p: np.ndarray, q: np.ndarray, edges: np.ndarray, intensity: f
     return f
 
 
-def load_polygons(model, slab: Polygon):
-    """(shapely polygon, intensity kPa, factored) for each area load, clipped to the slab."""
-    out = []
+def point_load_work(p: np.ndarray, q: np.ndarray, at: np.ndarray, force: float) -> np.ndarray:
+    """Work coefficients f (c,) in kNm/rad of a point load `force` (kN) at `at` (m).
+
+    Here phi = P delta(x - c_x) max(y - c_y, 0), so f_i = -P |n_y,i| (y_i(c_x) - c_y) over the
+    lines crossed by the vertical ray upward from c: the deflection at c is minus the sum of
+    rotation times distance from c over the lines between c and the ground. The ray is taken
+    an infinitesimal step to the right of c, so a line counts when x_min <= c_x < x_max.
+    """
+    f = np.zeros(len(p))
+    x0, x1 = np.minimum(p[:, 0], q[:, 0]), np.maximum(p[:, 0], q[:, 0])
+    sel = np.flatnonzero((x0 <= at[0]) & (at[0] < x1))
+    if sel.size:
+        pa, qa = p[sel], q[sel]
+        t = (at[0] - pa[:, 0]) / (qa[:, 0] - pa[:, 0])
+        y = pa[:, 1] + t * (qa[:, 1] - pa[:, 1])
+        d = qa - pa
+        ny = np.abs(d[:, 0]) / np.hypot(d[:, 0], d[:, 1])
+        f[sel] = -force * ny * np.maximum(y - at[1], 0.0)
+    return f
+
+
+def line_load_work(p: np.ndarray, q: np.ndarray, path: np.ndarray, intensity: float) -> np.ndarray:
+    """Work coefficients f (c,) in kNm/rad of a load `intensity` (kN/m) along the polyline `path`.
+
+    A piece of path from (x1, y1) to (x2, y2) carries intensity * length / |x2 - x1| per unit
+    x, so phi = that * max(y - y_path(x), 0): linear along a line piece by piece, integrated
+    in closed form. A vertical piece acts like a column of point loads (see point_load_work).
+    """
+    f = np.zeros(len(p))
+    dx = q[:, 0] - p[:, 0]
+    length = np.hypot(dx, q[:, 1] - p[:, 1])
+    ny = np.abs(dx) / length
+    for (x1, y1), (x2, y2) in zip(path[:-1], path[1:]):
+        seg = np.hypot(x2 - x1, y2 - y1)
+        if abs(x2 - x1) <= 1e-12 * seg:
+            # phi = w delta(x - x0) psi(y), psi = integral from ya to min(y, yb) of (y - s) ds.
+            ya, yb = min(y1, y2), max(y1, y2)
+            x0 = x1
+            lo, hi = np.minimum(p[:, 0], q[:, 0]), np.maximum(p[:, 0], q[:, 0])
+            sel = np.flatnonzero((lo <= x0) & (x0 < hi))
+            if sel.size:
+                t = (x0 - p[sel, 0]) / dx[sel]
+                y = p[sel, 1] + t * (q[sel, 1] - p[sel, 1])
+                psi = np.where(y <= ya, 0.0, np.where(y <= yb, 0.5 * (y - ya) ** 2, (yb - ya) * (y - 0.5 * (ya + yb))))
+                f[sel] -= intensity * ny[sel] * psi
+            continue
+        xmin, xmax = min(x1, x2), max(x1, x2)
+        density = intensity * seg / (xmax - xmin)  # kN per m of x
+        sel = np.flatnonzero((np.abs(dx) > 1e-15 * length) & (np.maximum(p[:, 0], q[:, 0]) > xmin)
+                             & (np.minimum(p[:, 0], q[:, 0]) < xmax))
+        if sel.size == 0:
+            continue
+        pa, qa, d = p[sel], q[sel], dx[sel]
+        ta = np.clip((xmin - pa[:, 0]) / d, 0.0, 1.0)
+        tb = np.clip((xmax - pa[:, 0]) / d, 0.0, 1.0)
+        lo, hi = np.minimum(ta, tb), np.maximum(ta, tb)
+        slope = (y2 - y1) / (x2 - x1)
+        h0 = pa[:, 1] - (y1 + (pa[:, 0] - x1) * slope)
+        h1 = (qa[:, 1] - pa[:, 1]) - d * slope
+        with np.errstate(divide="ignore", invalid="ignore"):
+            root = -h0 / h1
+        lo2 = np.where(h1 > 0, np.maximum(lo, root), lo)
+        hi2 = np.where(h1 < 0, np.minimum(hi, root), hi)
+        hi2 = np.where((h1 == 0) & (h0 <= 0), lo2, hi2)
+        span = np.maximum(hi2 - lo2, 0.0)
+        integral = span * 0.5 * ((h0 + h1 * lo2) + (h0 + h1 * hi2))  # exact for linear h >= 0
+        f[sel] -= density * ny[sel] ** 2 * length[sel] * integral
+    return f
+
+
+def load_coefficients(model, slab: Polygon, p: np.ndarray, q: np.ndarray):
+    """(f, g, total): work coefficients (c,) of the factored and held loads, kNm/rad, and the
+    total factored force in kN."""
+    f, g = np.zeros(len(p)), np.zeros(len(p))
+    total = 0.0
     for load in model.loads:
-        region = slab if load.region is None else shapely.Polygon(load.region).intersection(slab)
-        out.append((region, load.value, load.factored))
-    return out
+        if hasattr(load, "at"):
+            coef, force = point_load_work(p, q, np.asarray(load.at, float), load.value), load.value
+        elif hasattr(load, "path"):
+            path = np.asarray(load.path, float)
+            coef = line_load_work(p, q, path, load.value)
+            force = load.value * float(np.sum(np.hypot(*np.diff(path, axis=0).T)))
+        else:
+            region = slab if load.region is None else shapely.Polygon(load.region).intersection(slab)
+            coef, force = area_load_work(p, q, polygon_edges(region), load.value), load.value * region.area
+        if load.factored:
+            f += coef
+            total += force
+        else:
+            g += coef
+    return f, g, total

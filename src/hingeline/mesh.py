@@ -42,10 +42,15 @@ def mesh_size_for(model: Model, resolution: str) -> float:
 def _linework(domain: Domain, model: Model):
     lines = [LineString(np.vstack([domain.boundary, domain.boundary[:1]]))]
     lines += [LineString(e) for e in domain.edges]
+    extra_points = []
     for load in model.loads:
-        if load.region is not None:
+        if getattr(load, "region", None) is not None:
             ring = LineString(np.vstack([load.region, load.region[:1]]))
             lines.append(ring.intersection(domain.slab))
+        elif hasattr(load, "path"):
+            lines.append(LineString(load.path))
+        elif hasattr(load, "at"):
+            extra_points.append(np.asarray(load.at, float))
     # Node the linework: split every piece where it meets another, drop repeats.
     noded = shapely.union_all(lines)
     segs = []
@@ -55,8 +60,10 @@ def _linework(domain: Domain, model: Model):
         c = np.asarray(geom.coords)
         segs.append(np.stack([c[:-1], c[1:]], axis=1))
     segs = np.concatenate(segs)
-    pts, inv = merge_points(segs.reshape(-1, 2), domain.tol * 10)
-    facets = inv.reshape(-1, 2)
+    # Point-load positions are nodes, so that fans of yield lines can centre on them.
+    allp = np.concatenate([segs.reshape(-1, 2), np.reshape(extra_points, (-1, 2))])
+    pts, inv = merge_points(allp, domain.tol * 10)
+    facets = inv[: 2 * len(segs)].reshape(-1, 2)
     facets = facets[facets[:, 0] != facets[:, 1]]
     facets = np.unique(np.sort(facets, axis=1), axis=0)
     return pts, facets

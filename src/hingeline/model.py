@@ -81,6 +81,30 @@ class AreaLoad:
 
 
 @dataclass(frozen=True, eq=False)
+class LineLoad:
+    """Uniform load along a polyline.
+
+    value: kN/m of path length, > 0 (downward); path: (k, 2) vertices in m, k >= 2,
+    lying on the slab; factored and name as for AreaLoad.
+    """
+
+    value: float
+    path: np.ndarray
+    factored: bool = True
+    name: str = ""
+
+
+@dataclass(frozen=True, eq=False)
+class PointLoad:
+    """Concentrated load: value in kN, > 0 (downward), at (2,) in m on the slab."""
+
+    value: float
+    at: np.ndarray
+    factored: bool = True
+    name: str = ""
+
+
+@dataclass(frozen=True, eq=False)
 class Analysis:
     """Solver settings.
 
@@ -98,7 +122,7 @@ class Model:
 
     slab: Slab
     capacity: Capacity
-    loads: tuple[AreaLoad, ...]
+    loads: tuple[AreaLoad | LineLoad | PointLoad, ...]
     analysis: Analysis = field(default_factory=Analysis)
     title: str = ""
 
@@ -127,6 +151,8 @@ ANALYSIS_KEYS = ("resolution", "mesh_size")
 # Keys allowed in a [[load]] table, per load type.
 LOAD_KEYS = {
     "area": ("type", "value", "region", "factored", "name"),
+    "line": ("type", "value", "path", "factored", "name"),
+    "point": ("type", "value", "at", "factored", "name"),
 }
 
 _REL_TOL = 1e-9  # geometric tolerance relative to the outline's bounding-box size
@@ -450,19 +476,56 @@ def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:
     return tuple(loads)
 
 
-def _parse_area_load(t: dict, where: str, geo: _Geometry, index: int) -> AreaLoad:
+def _load_common(t: dict, where: str, index: int, unit: str, kind: str):
+    """(name, named, value, factored) of a [[load]] table; named is the " (load "...")" suffix."""
     name = t.get("name", f"load {index + 1}")
     if not isinstance(name, str) or not name.strip():
         raise _Invalid(f"{where}.name must be non-empty text in quotes, got {_show(name)}")
     named = f" (load \"{name}\")" if "name" in t else ""
     if "value" not in t:
-        raise _Invalid(f"{where}{named} has no value; add value = <kPa> (> 0, downward)")
-    value = _number(t["value"], f"{where}.value{named}", "kPa")
+        raise _Invalid(f"{where}{named} has no value; add value = <{unit}> (> 0, downward)")
+    value = _number(t["value"], f"{where}.value{named}", unit)
     if value <= 0:
-        raise _Invalid(f"{where}.value{named} is {_fmt(value)} kPa; an area load must be > 0 kPa (downward)")
+        raise _Invalid(f"{where}.value{named} is {_fmt(value)} {unit}; {kind} must be > 0 {unit} (downward)")
     factored = t.get("factored", True)
     if not isinstance(factored, bool):
         raise _Invalid(f"{where}.factored{named} must be true or false (no quotes), got {_show(factored)}")
+    return name, named, value, factored
+
+
+def _on_slab(geom, what: str, geo: _Geometry) -> None:
+    """Refuse a point or path that leaves the outline or enters an opening."""
+    if not geo.outline.buffer(geo.tol).covers(geom):
+        raise _Invalid(f"{what} lies outside slab.outline (near {_pt(_where_is(geom.difference(geo.outline) or geom))}); "
+                       "move it onto the slab")
+    for j, op in enumerate(geo.openings):
+        if op.buffer(-geo.tol).intersects(geom):
+            raise _Invalid(f"{what} lies on slab.opening[{j + 1}]; an opening carries no load: move the load "
+                           "onto the slab")
+
+
+def _parse_point_load(t: dict, where: str, geo: _Geometry, index: int) -> PointLoad:
+    name, named, value, factored = _load_common(t, where, index, "kN", "a point load")
+    if "at" not in t:
+        raise _Invalid(f"{where}{named} has no at; add at = [x, y] (m)")
+    at = _points([t["at"]], f"{where}.at{named}")[0]
+    _on_slab(shapely.Point(at), f"{where}.at{named} = {_pt(at)}", geo)
+    return PointLoad(value=value, at=_frozen(np.array(at, float)), factored=factored, name=name)
+
+
+def _parse_line_load(t: dict, where: str, geo: _Geometry, index: int) -> LineLoad:
+    name, named, value, factored = _load_common(t, where, index, "kN/m", "a line load")
+    if "path" not in t:
+        raise _Invalid(f"{where}{named} has no path; add path = [[x1, y1], [x2, y2], ...] (m)")
+    path = _points(t["path"], f"{where}.path{named}")
+    if len(path) < 2 or np.any(np.hypot(*np.diff(path, axis=0).T) <= geo.tol):
+        raise _Invalid(f"{where}.path{named} needs at least two points, each apart from the one before it")
+    _on_slab(shapely.LineString(path), f"{where}.path{named}", geo)
+    return LineLoad(value=value, path=_frozen(np.array(path, float)), factored=factored, name=name)
+
+
+def _parse_area_load(t: dict, where: str, geo: _Geometry, index: int) -> AreaLoad:
+    name, named, value, factored = _load_common(t, where, index, "kPa", "an area load")
     region = None
     if "region" in t:
         rwhere = f"{where}.region{named}"
@@ -490,7 +553,7 @@ def _parse_area_load(t: dict, where: str, geo: _Geometry, index: int) -> AreaLoa
     return AreaLoad(value=value, region=region, factored=factored, name=name)
 
 
-_LOAD_PARSERS = {"area": _parse_area_load}
+_LOAD_PARSERS = {"area": _parse_area_load, "line": _parse_line_load, "point": _parse_point_load}
 
 
 def _parse_analysis(t: dict) -> Analysis:

@@ -15,7 +15,7 @@ from .candidates import build_candidates
 from .certificate import check_mechanism
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry import build_domain
-from .loadwork import area_load_work, load_polygons, polygon_edges
+from .loadwork import load_coefficients
 from .lp import solve_lp
 from .mechanism import build_mechanism, yield_lines
 from .mesh import mesh_domain, mesh_size_for
@@ -55,16 +55,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     log.info("mesh: %d nodes, %d candidate lines", len(nodes), len(cand))
 
     p, q = nodes[cand.a], nodes[cand.b]
-    f = np.zeros(len(cand))
-    g = np.zeros(len(cand))
-    w_total = 0.0
-    for poly, value, factored in load_polygons(model, domain.slab):
-        coef = area_load_work(p, q, polygon_edges(poly), value)
-        if factored:
-            f += coef
-            w_total += value * poly.area
-        else:
-            g += coef
+    f, g, w_total = load_coefficients(model, domain.slab, p, q)
 
     key = cand.a * len(nodes) + cand.b
     order = np.argsort(key)
@@ -78,7 +69,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     m_ref = max(*cap.sagging, *cap.hogging)
     sol = solve_lp(cand, f, g, len(nodes), initial, m_ref)
     lf = sol.objective
-    # Dimensionless scale of load factors: capacity over total factored load (kNm/m / kN).
+    # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).
     lf_scale = m_ref / w_total
     if lf <= 1e-7 * lf_scale:
         if lf < -1e-7 * lf_scale:

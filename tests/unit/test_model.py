@@ -565,9 +565,9 @@ def test_missing_load_value():
 
 def test_unknown_load_type():
     d = base()
-    d["load"].append({"type": "line", "value": 3.0})
+    d["load"].append({"type": "snow", "value": 3.0})
     msg = error_of(d)
-    assert "load[2].type" in msg and '"line"' in msg and 'available load types: "area"' in msg
+    assert "load[2].type" in msg and '"snow"' in msg and 'available load types: "area"' in msg
 
 
 def test_missing_load_type():
