@@ -19,7 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from .capacity import normal_capacity
+from .capacity import capacity_at, normal_capacity
 from .geometry import CONTINUOUS, MARGIN, Domain, segment_distance
 from .model import Model
 
@@ -117,7 +117,8 @@ def crossings(p: np.ndarray, q: np.ndarray, edges: np.ndarray, tol: float):
 
 
 def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, tol: float):
-    """Pieces of segments p->q lying inside `polygon` whose boundary is made of `edges`.
+    """Pieces of segments p->q lying inside `polygon`; `edges` holds at least the polygon's
+    boundary (further edges only split the pieces further, e.g. at zone boundaries).
 
     Returns (line index, t0, t1) for every inside piece (parameters along p->q).
     """
@@ -135,6 +136,12 @@ def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, t
     mid = p[i0] + 0.5 * (t0 + t1)[:, None] * (q[i0] - p[i0])
     inside = shapely.contains_xy(polygon, mid[:, 0], mid[:, 1])
     return i0[inside], t0[inside], t1[inside]
+
+
+def piece_edges(domain: Domain, model: Model) -> np.ndarray:
+    """Edges (e, 2, 2) where a line's capacity may change: the slab boundary and zone boundaries."""
+    zone_edges = [np.stack([z.polygon, np.roll(z.polygon, -1, axis=0)], axis=1) for z in model.zones]
+    return np.concatenate([domain.edges, *zone_edges])
 
 
 def _shared_edge(on: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -185,19 +192,31 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
 
     interior = np.flatnonzero(kind == INTERIOR)
     slab_length = np.zeros(len(a))
+    cost_plus = np.zeros(len(a))
+    cost_minus = np.zeros(len(a))
     has_fill = domain.margin > 0 or len(model.slab.openings) > 0
-    if has_fill:
-        i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, tol)
-        np.add.at(slab_length, interior[i], (t1 - t0) * length[interior[i]])
+    if model.zones:
+        # Pieces between crossings of the slab boundary and of zone boundaries, each priced at
+        # its midpoint (zone, slab, or the weaker of both on a zone boundary).
+        i, t0, t1 = inside_intervals(p[interior], q[interior], piece_edges(domain, model), domain.slab, tol)
+        li = interior[i]
+        mid = p[li] + 0.5 * (t0 + t1)[:, None] * (q[li] - p[li])
+        mp, mm = capacity_at(model, mid, normal[li], 10 * tol)
+        piece = (t1 - t0) * length[li]
+        np.add.at(slab_length, li, piece)
+        np.add.at(cost_plus, li, mp * piece)
+        np.add.at(cost_minus, li, mm * piece)
     else:
-        slab_length[interior] = length[interior]
-
-    cap = model.capacity
-    m_plus = normal_capacity(cap.sagging, cap.bar_angle, normal)
-    m_minus = normal_capacity(cap.hogging, cap.bar_angle, normal)
-    cost_plus = m_plus * slab_length
-    cost_minus = m_minus * slab_length
-    cont = kind == CONTINUOUS
-    cost_minus[cont] = m_minus[cont] * length[cont]
+        if has_fill:
+            i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, tol)
+            np.add.at(slab_length, interior[i], (t1 - t0) * length[interior[i]])
+        else:
+            slab_length[interior] = length[interior]
+        cap = model.capacity
+        cost_plus = normal_capacity(cap.sagging, cap.bar_angle, normal) * slab_length
+        cost_minus = normal_capacity(cap.hogging, cap.bar_angle, normal) * slab_length
+    cont = np.flatnonzero(kind == CONTINUOUS)
+    _, m_minus = capacity_at(model, 0.5 * (p[cont] + q[cont]), normal[cont], 10 * tol)
+    cost_minus[cont] = m_minus * length[cont]
     return Candidates(a, b, length, tangent, normal, slab_length, kind, slab_edge,
                       cost_plus, cost_minus)

@@ -19,7 +19,8 @@ from __future__ import annotations
 import numpy as np
 import shapely
 
-from .capacity import normal_capacity
+from .candidates import crossings
+from .capacity import capacity_at
 from .errors import SolverError
 from .geometry import segment_distance
 from .model import Model
@@ -45,6 +46,11 @@ def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
     return edges, np.array([model.slab.edges[k] == "continuous" for k in ks], bool)
 
 
+def _zone_edges(model: Model) -> np.ndarray:
+    out = [np.stack([z.polygon, np.roll(z.polygon, -1, axis=0)], axis=1) for z in model.zones]
+    return np.concatenate(out) if out else np.zeros((0, 2, 2))
+
+
 def _tolerance(model: Model) -> float:
     return 1e-8 * float(np.hypot(*np.ptp(model.slab.outline, axis=0)))
 
@@ -65,15 +71,26 @@ def internal_work(model: Model, mech: Mechanism) -> float:
     single = np.ones(len(key), bool)
     single[first] = single[first + 1] = False
 
-    cap = model.capacity
-
     def geometry(a, b):
-        """Lengths (m), sagging and hogging capacities normal to the edges (kNm/m), normals."""
+        """Lengths (m), sagging and hogging capacities normal to the edges at their midpoints
+        (kNm/m; zones apply, the weaker side on a zone boundary), unit normals."""
         t = V[b] - V[a]
         L = np.hypot(t[:, 0], t[:, 1])
         n = np.stack([-t[:, 1], t[:, 0]], axis=1) / L[:, None]
-        mp = normal_capacity(cap.sagging, cap.bar_angle, n)
-        mm = normal_capacity(cap.hogging, cap.bar_angle, n)
+        # Split edges where they cross a zone boundary; price each piece at its midpoint.
+        i, tc, _ = crossings(V[a], V[b], _zone_edges(model), _tolerance(model))
+        k = len(a)
+        li = np.concatenate([np.arange(k), i, np.arange(k)])
+        lt = np.concatenate([np.zeros(k), tc, np.ones(k)])
+        order = np.lexsort((lt, li))
+        li, lt = li[order], lt[order]
+        same = li[1:] == li[:-1]
+        e, t0, t1 = li[:-1][same], lt[:-1][same], lt[1:][same]
+        mid = V[a][e] + (0.5 * (t0 + t1))[:, None] * t[e]
+        cp, cm = capacity_at(model, mid, n[e], _tolerance(model))
+        mp, mm = np.zeros(k), np.zeros(k)
+        np.add.at(mp, e, cp * (t1 - t0))
+        np.add.at(mm, e, cm * (t1 - t0))
         return L, mp, mm, n
 
     # Interior edges: theta = -(g2 - g1) . nu, nu the unit normal from triangle 1 into triangle 2.
@@ -168,8 +185,6 @@ def _field_at(V, T, w, g, pts: np.ndarray) -> np.ndarray:
 def _path_integral(V, T, w, g, path: np.ndarray) -> float:
     """Integral of the P1 field along a polyline (m * w): exact, the path is split at every
     triangle edge it crosses and w is linear on each piece."""
-    from .candidates import crossings
-
     e = np.concatenate([T[:, [0, 1]], T[:, [1, 2]], T[:, [2, 0]]])
     e = np.unique(np.sort(e, axis=1), axis=0)
     edges = V[e]

@@ -23,7 +23,8 @@ import meshpy.triangle as triangle
 import numpy as np
 import shapely
 
-from .candidates import INTERIOR, Candidates, crossings, inside_intervals
+from .candidates import INTERIOR, Candidates, crossings, inside_intervals, piece_edges
+from .capacity import capacity_at
 from .errors import SolverError
 from .geometry import CONTINUOUS, SIMPLE, Domain, merge_points, segment_distance
 from .result import Mechanism, YieldLines
@@ -145,7 +146,7 @@ def _on_supported(points, domain: Domain) -> np.ndarray:
     return (segment_distance(points, domain.edges[sup]) <= 10 * domain.tol).any(axis=1)
 
 
-def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> YieldLines:
+def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain, model) -> YieldLines:
     """Active hinges inside the slab or along continuous edges, with their work (kNm).
 
     Rotations about simply supported edges are not yield lines (nothing yields) and are left out."""
@@ -153,7 +154,7 @@ def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> Y
     act = act[np.isin(cand.kind[act], (INTERIOR, CONTINUOUS))]
     p, q = nodes[cand.a[act]], nodes[cand.b[act]]
     interior = cand.kind[act] == INTERIOR
-    i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, domain.tol)
+    i, t0, t1 = inside_intervals(p[interior], q[interior], piece_edges(domain, model), domain.slab, domain.tol)
     idx_int = np.flatnonzero(interior)[i]
     idx_bnd = np.flatnonzero(~interior)
     idx = np.concatenate([idx_int, idx_bnd])
@@ -162,13 +163,17 @@ def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain) -> Y
     line = act[idx]
     d = q[idx] - p[idx]
     th = theta[line]
-    frac = (tb - ta) * cand.length[line] / np.where(cand.kind[line] == INTERIOR, cand.slab_length[line], cand.length[line])
-    cost = np.where(th > 0, cand.cost_plus[line], cand.cost_minus[line])
+    mid = p[idx] + (0.5 * (ta + tb))[:, None] * d
+    m_plus, m_minus = capacity_at(model, mid, cand.normal[line], 10 * domain.tol)
+    cap = np.where(th > 0, m_plus, m_minus)
+    # Rotation the other way at a continuous edge (uplift) is free: see candidates.py.
+    cap = np.where((cand.kind[line] == CONTINUOUS) & (th > 0), 0.0, cap)
+    piece = (tb - ta) * cand.length[line]
     return YieldLines(
         start=p[idx] + ta[:, None] * d,
         end=p[idx] + tb[:, None] * d,
         rotation=np.abs(th),
         sagging=th > 0,
-        dissipation=cost * np.abs(th) * frac,
+        dissipation=cap * piece * np.abs(th),
         at_support=cand.kind[line] != INTERIOR,
     )

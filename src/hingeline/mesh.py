@@ -43,6 +43,8 @@ def _linework(domain: Domain, model: Model):
     lines = [LineString(np.vstack([domain.boundary, domain.boundary[:1]]))]
     lines += [LineString(e) for e in domain.edges]
     extra_points = []
+    for zone in model.zones:
+        lines.append(LineString(np.vstack([zone.polygon, zone.polygon[:1]])).intersection(domain.slab))
     for load in model.loads:
         if getattr(load, "region", None) is not None:
             ring = LineString(np.vstack([load.region, load.region[:1]]))

@@ -125,6 +125,21 @@ class Model:
     loads: tuple[AreaLoad | LineLoad | PointLoad, ...]
     analysis: Analysis = field(default_factory=Analysis)
     title: str = ""
+    zones: tuple["Zone", ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class Zone:
+    """A region of the slab with its own capacities (kNm/m), overriding the slab's there.
+
+    polygon: (k, 2) counter-clockwise, within the outline, not overlapping other zones;
+    sagging, hogging: (m1, m2) along the slab's bar directions; name for messages.
+    """
+
+    polygon: np.ndarray
+    sagging: tuple[float, float]
+    hogging: tuple[float, float]
+    name: str = ""
 
 
 # ---------------------------------------------------------------------------
@@ -141,7 +156,8 @@ class Model:
 
 # Allowed keys of each table. To support a new section, add its keys here and
 # a parser below, and call the parser from parse_model.
-TOP_KEYS = ("title", "slab", "capacity", "load", "analysis")
+TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone")
+ZONE_KEYS = ("polygon", "sagging", "hogging", "name")
 SLAB_KEYS = ("outline", "edges", "thickness", "opening")
 OPENING_KEYS = ("polygon",)
 CAPACITY_KEYS = ("sagging", "hogging", "bar_angle", "bars")
@@ -244,7 +260,43 @@ def _parse(data: Any) -> Model:
     else:
         analysis = Analysis()
 
-    return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title)
+    zones = _parse_zones(data.get("zone", []), geo)
+    return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones)
+
+
+def _parse_zones(raw: Any, geo: "_Geometry") -> tuple[Zone, ...]:
+    if isinstance(raw, dict) or not isinstance(raw, (list, tuple)):
+        raise _Invalid("zone must be a list of tables: write each zone as [[zone]] (double brackets)")
+    zones, polys = [], []
+    for i, zt in enumerate(raw):
+        where = f"zone[{i + 1}]"
+        if not isinstance(zt, dict):
+            raise _Invalid(f"{where} must be a table, got {_show(zt)}")
+        _check_keys(zt, ZONE_KEYS, f"[[zone]] {where}")
+        name = zt.get("name", f"zone {i + 1}")
+        if not isinstance(name, str) or not name.strip():
+            raise _Invalid(f"{where}.name must be non-empty text in quotes, got {_show(name)}")
+        for key in ("polygon", "sagging"):
+            if key not in zt:
+                raise _Invalid(f"{where} has no {key}; a zone needs polygon = [[x, y], ...] (m) and "
+                               "sagging = <kNm/m> (hogging optional, default 0)")
+        pts = _clean_polygon(_points(zt["polygon"], f"{where}.polygon"), f"{where}.polygon", geo.tol)
+        poly = Polygon(pts)
+        outside = poly.difference(geo.outline)
+        if outside.area > geo.area_tol:
+            raise _Invalid(f"{where}.polygon leaves slab.outline ({_fmt(outside.area)} m^2 outside, near "
+                           f"{_pt(_where_is(outside))}); trim the zone to the slab")
+        for j, other in enumerate(polys):
+            common = poly.intersection(other)
+            if common.area > geo.area_tol:
+                raise _Invalid(f"{where} overlaps zone[{j + 1}] ({_fmt(common.area)} m^2 in common, near "
+                               f"{_pt(_where_is(common))}); zones must not overlap")
+        sagging = _moment_pair(zt["sagging"], f"{where}.sagging")
+        hogging = _moment_pair(zt.get("hogging", 0.0), f"{where}.hogging")
+        polys.append(poly)
+        ccw, _ = _ccw(pts)
+        zones.append(Zone(polygon=_frozen(ccw), sagging=sagging, hogging=hogging, name=name))
+    return tuple(zones)
 
 
 # --- sections ---------------------------------------------------------------

@@ -83,7 +83,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
 
     theta = sol.theta
     mech, mismatch, support_w = build_mechanism(nodes, cand, theta, domain)
-    lines = yield_lines(nodes, cand, theta, domain)
+    lines = yield_lines(nodes, cand, theta, domain, model)
     internal = float(np.sum(np.where(theta > 0, cand.cost_plus * theta, -cand.cost_minus * theta)))
     held = float(g @ theta)
     factored = float(f @ theta)
