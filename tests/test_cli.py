@@ -196,7 +196,8 @@ def test_solve_writes_outputs_and_prints_summary(tmp_path, capsys, fake_solver):
     assert code == 0
     assert fake_solver.calls[0]["resolution"] == "fine"
     assert fake_solver.calls[0]["model"].title == "CLI test slab"
-    assert sorted(p.name for p in outdir.iterdir()) == ["pattern.png", "result.json"]
+    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "pattern.png",
+                                                        "pattern.svg", "result.json"]
     data = json.loads((outdir / "result.json").read_text(encoding="utf-8"))
     expected = fan_result(read_model(model)).load_factor
     assert data["load_factor"] == expected
@@ -205,7 +206,7 @@ def test_solve_writes_outputs_and_prints_summary(tmp_path, capsys, fake_solver):
     assert "agrees" in out
     assert "warning" in out and "stand-in result" in out
     assert "qualified engineer" in out
-    assert "result.json" in out and "pattern.png" in out
+    assert "result.json" in out and "pattern.png" in out and "deflection.svg" in out
 
 
 def test_solve_mesh_size_passed_through(tmp_path, fake_solver):
@@ -249,7 +250,8 @@ def test_demo_writes_default_folder_in_cwd(tmp_path, monkeypatch, capsys, fake_s
     out = capsys.readouterr().out
     assert "hingeline-demo" in out
     assert (tmp_path / "hingeline-demo" / "result.json").is_file()
-    assert (tmp_path / "hingeline-demo" / "pattern.png").is_file()
+    for name in ("pattern.png", "pattern.svg", "deflection.png", "deflection.svg"):
+        assert (tmp_path / "hingeline-demo" / name).is_file()
     assert fake_solver.calls[0]["model"].title.startswith("Demo:")
 
 
@@ -263,8 +265,6 @@ def test_demo_custom_folder(tmp_path, capsys, fake_solver):
 
 
 def test_demo_end_to_end_with_solver(tmp_path, capsys):
-    from hingeline.output import certificate_agrees  # noqa: F401  (used via the printed verdict)
-
     code = main(["demo", "-o", str(tmp_path / "demo")])
     out = capsys.readouterr().out
     assert code == 0
@@ -275,6 +275,8 @@ def test_demo_end_to_end_with_solver(tmp_path, capsys):
     assert data["yield_lines"], "a collapse mechanism has yield lines"
     assert "DOES NOT AGREE" not in out and "agrees" in out
     assert (tmp_path / "demo" / "pattern.png").stat().st_size > 10_000
+    assert (tmp_path / "demo" / "deflection.png").stat().st_size > 10_000
+    assert b"<svg" in (tmp_path / "demo" / "deflection.svg").read_bytes()[:2000]
 
 
 def test_solve_end_to_end_with_solver(tmp_path, capsys):
@@ -290,3 +292,26 @@ def test_solve_end_to_end_with_solver(tmp_path, capsys):
     a, b, m, q = 5.0, 4.0, 20.0, 6.0
     lam_johansen = 24 * m / (b * b * (math.sqrt(3 + (b / a) ** 2) - b / a) ** 2) / q
     assert 0.999 * lam_johansen <= data["load_factor"] <= 1.15 * lam_johansen
+
+
+def test_design_command_prints_the_scale(tmp_path, capsys):
+    # Johansen: the simply supported square (m' = m) carries 24 m / L^2; 48 kPa on a 1 m square
+    # with m = 1 kNm/m therefore needs a capacity scale of 2 (checked to 1e-6 in
+    # tests/validation/test_design.py; here the command's printing and exit code).
+    model = write_model(tmp_path, """
+[slab]
+outline = [[0, 0], [1, 0], [1, 1], [0, 1]]
+edges = "simple"
+[capacity]
+sagging = 1.0
+hogging = 1.0
+[[load]]
+type = "area"
+value = 48.0
+[analysis]
+resolution = "coarse"
+""")
+    assert main(["design", str(model)]) == 0
+    out = capsys.readouterr().out
+    assert "capacity scale for load factor 1 = 2.0000" in out and "NOT adequate" in out
+    assert main(["design", str(model), "--target", "-1"]) == 2

@@ -9,7 +9,7 @@ factored and held loads), so
 
 where lambda_all is the ordinary load factor of the slab under the single load
 set (target x factored loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
-scale truly needed: a finer resolution can only raise it.
+scale truly needed: a finer resolution usually raises it.
 
 With a bar schedule, each layer's spacing is then reduced (in 25 mm steps, the
 diameter kept, or the next diameter up if needed) until its EN 1992-1-1 moment

@@ -4,8 +4,10 @@
 (floats unrounded, so `json` writes them with repr and they read back bit for bit;
 this matters because the certificate is re-checked from the file).
 `write_outputs` renders everything in memory first and only then writes
-OUTDIR/result.json and OUTDIR/pattern.<fmt>, so a failure while rendering leaves
-nothing behind.
+OUTDIR/result.json, OUTDIR/pattern.<fmt> (the yield-line plan) and
+OUTDIR/deflection.<fmt> (contours of the mechanism's w / w_max), so a failure
+while rendering leaves nothing behind. The fields of result.json are described
+by the JSON Schema docs/result.schema.json.
 
 Units follow result.py: lengths m, moments kNm/m, rotations rad, work kNm,
 deflections w in m per kNm of factored-load work (positive downward).
@@ -27,8 +29,12 @@ from .result import CAUTIONS, Result
 
 log = logging.getLogger(__name__)
 
-#: File formats `write_outputs` can render the pattern plot to.
+#: File formats `write_outputs` can render the plots to.
 PLOT_FORMATS = ("png", "pdf", "svg")
+
+#: Plots `write_outputs` writes, as file stem -> plot function name in plot.py
+#: (pattern: yield-line plan; deflection: contour plan of w / w_max).
+PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection"}
 
 #: Resolution of raster plot files, dots per inch.
 PLOT_DPI = 150
@@ -187,18 +193,18 @@ def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
     return abs(chk.load_factor - lf) <= rtol * scale and chk.max_support_w <= rtol * max(w_max, 1e-300)
 
 
-def _render_plot(result: Result, fmt: str) -> bytes:
-    """The pattern plot as the bytes of a `fmt` file (Agg, no display)."""
+def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
+    """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    from .plot import plot_pattern
+    from . import plot
 
     fig = Figure(figsize=PLOT_SIZE, layout="constrained")
     fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # keep a strip for the caution line
     FigureCanvasAgg(fig)
     ax = fig.add_subplot()
-    plot_pattern(result, ax=ax)
+    getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
     fig.text(
         0.5, 0.005,
         "Upper-bound yield-line result. Shear/punching, deflection, ductility and detailing "
@@ -212,9 +218,12 @@ def _render_plot(result: Result, fmt: str) -> bytes:
 
 
 def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[str] = ("png",)) -> list[Path]:
-    """Write OUTDIR/result.json and OUTDIR/pattern.<fmt> for each format; return the paths.
+    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt> and OUTDIR/deflection.<fmt> for
+    each format; return the paths (result.json first, then the plots format by format).
 
     formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
+    pattern: the yield-line plan (plot.plot_pattern); deflection: the contour plan of
+    the mechanism's w / w_max (plot.plot_deflection).
     Everything is rendered in memory before the folder is created and each file is
     written to a temporary name and then renamed, so a failure leaves no half-written
     output. Existing files of the same names are replaced.
@@ -228,7 +237,8 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
     text = json.dumps(result_to_dict(result), indent=1, allow_nan=False) + "\n"
     blobs: list[tuple[str, bytes]] = [("result.json", text.encode("utf-8"))]
     for fmt in dict.fromkeys(formats):
-        blobs.append((f"pattern.{fmt}", _render_plot(result, fmt)))
+        for kind in PLOT_KINDS:
+            blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind)))
 
     out = Path(outdir)
     out.mkdir(parents=True, exist_ok=True)

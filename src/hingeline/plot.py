@@ -7,7 +7,13 @@ Visual language (readable in black and white):
 - sagging yield line: solid, dark red; hogging yield line: dash-dot, dark blue;
   line weight grows with the line's rotation;
 - rigid regions shaded light-to-mid grey by the normalised deflection w of the
-  mechanism, with a colour bar.
+  mechanism, with a colour bar;
+- a scale bar (alternating black and white blocks, length a round number of m)
+  below the slab's lower-left corner.
+
+Also the mechanism's deflected shape on its own: `plot_deflection` (filled,
+labelled contours of w / w_max in plan) and `plot_deflection_3d` (grey shaded
+surface, z axis pointing down so the slab sags on the page).
 
 Only the Agg backend is used (no pyplot, no display). Axes are in m.
 """
@@ -18,7 +24,7 @@ from matplotlib.axes import Axes
 from matplotlib.collections import LineCollection
 from matplotlib.colors import ListedColormap
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch, Polygon
+from matplotlib.patches import Patch, Polygon, Rectangle
 from matplotlib.tri import Triangulation
 
 from .result import Result
@@ -37,14 +43,75 @@ DEFLECTION_LABEL = "normalised deflection"
 # light grey scale: white for w = 0 to mid grey for the largest w
 DEFLECTION_CMAP = ListedColormap(np.linspace(1.0, 0.55, 256)[:, None].repeat(3, axis=1), name="hingeline_w")
 
+#: Label of the colour bar of `plot_deflection` and of the z axis of `plot_deflection_3d`.
+W_RATIO_LABEL = "w / w_max"
 
-def _new_axes() -> Axes:
+#: Contour levels of `plot_deflection` (w / w_max); every other one is labelled.
+CONTOUR_LEVELS = np.linspace(0.0, 1.0, 11)
+
+# contour fill: white (w = 0) to a slate blue-grey whose lightness still lets black
+# labels read; lightness falls steadily, so the plan also reads in grey print
+_SLATE = np.array([0.36, 0.45, 0.55])
+CONTOUR_CMAP = ListedColormap(1.0 - np.linspace(0.0, 1.0, 256)[:, None] * (1.0 - _SLATE[None, :]),
+                              name="hingeline_w_ratio")
+
+#: Colour of the 3-D surface (light grey; matplotlib shades it by facet slope).
+SURFACE_COLOUR = "0.82"
+
+#: Gid and label prefix of the scale bar artists.
+SCALE_BAR_GID = "scale bar"
+
+
+#: Default figure size, inches (fits an A4 page with margins).
+FIGURE_SIZE = (7.0, 5.5)
+
+
+def _new_axes(projection: str | None = None) -> Axes:
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(7.0, 5.5), layout="constrained")
+    fig = Figure(figsize=FIGURE_SIZE, layout="constrained")
     FigureCanvasAgg(fig)
-    return fig.add_subplot()
+    return fig.add_subplot(projection=projection)
+
+
+def scale_bar_length(size: float) -> float:
+    """A round scale-bar length (m) for a slab whose larger plan dimension is `size` m.
+
+    The largest of 1, 2 or 5 times a power of ten not above a fifth of the size
+    (e.g. 1 m for a 6 m slab, 2 m for 12 m, 5 m for 30 m, 0.5 m for 3 m).
+    """
+    target = max(float(size), 1e-9) / 5.0
+    exp = np.floor(np.log10(target))
+    for step in (5.0, 2.0, 1.0):
+        length = step * 10.0 ** exp
+        if length <= target * (1 + 1e-12):
+            return float(length)
+    return float(10.0 ** exp)  # pragma: no cover  (1 x 10^exp <= target always)
+
+
+def _scale_bar_text(length: float) -> str:
+    return f"{length:g} m"
+
+
+def _draw_scale_bar(ax: Axes, lo: np.ndarray, size: float) -> float:
+    """Scale bar below the lower-left corner of the slab's bounding box; returns the
+    lowest y it uses (m), so the caller can leave room for it.
+
+    Drawn as two blocks (black, then white with a black border) of half the bar
+    length each, labelled with the length underneath.
+    """
+    length = scale_bar_length(size)
+    height = 0.014 * size
+    y0 = lo[1] - 0.085 * size
+    x0 = lo[0]
+    for k, face in enumerate(("black", "white")):
+        ax.add_patch(Rectangle((x0 + k * length / 2, y0), length / 2, height, facecolor=face,
+                               edgecolor="black", linewidth=0.7, zorder=6, gid=SCALE_BAR_GID,
+                               label="_scale_bar", clip_on=False))
+    ax.text(x0 + length / 2, y0 - 0.008 * size, _scale_bar_text(length), ha="center", va="top",
+            fontsize=7, zorder=6, gid=SCALE_BAR_GID, clip_on=False)
+    return y0 - 0.045 * size
 
 
 def _closed(poly: np.ndarray) -> np.ndarray:
@@ -189,6 +256,47 @@ def _legend_handles(result: Result) -> list:
     return handles
 
 
+def _set_plan_limits(ax: Axes, lo: np.ndarray, hi: np.ndarray, size: float) -> None:
+    """Limits (with room below for the scale bar), equal aspect, axis labels in m."""
+    pad = 0.06 * size
+    bottom = _draw_scale_bar(ax, lo, size)
+    ax.set_xlim(lo[0] - pad, hi[0] + pad)
+    ax.set_ylim(min(lo[1] - pad, bottom), hi[1] + pad)
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_xlabel("x (m)")
+    ax.set_ylabel("y (m)")
+    ax.tick_params(labelsize=8)
+
+
+def _plan_extent(result: Result) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    outline = np.asarray(result.model.slab.outline, dtype=float)
+    lo, hi = outline.min(axis=0), outline.max(axis=0)
+    return outline, lo, hi, float(max(hi - lo)) or 1.0
+
+
+def _w_ratio(result: Result) -> tuple[Triangulation | None, np.ndarray]:
+    """Triangulation of the mechanism and w / max(w) at its vertices (None if empty).
+
+    The ratio is 1 at the largest deflection and 0 on the supports; when the
+    mechanism has no positive deflection the ratio is all zeros.
+    """
+    mech = result.mechanism
+    verts = np.asarray(mech.vertices, dtype=float).reshape(-1, 2)
+    tris = np.asarray(mech.triangles, dtype=int).reshape(-1, 3)
+    w = np.asarray(mech.w, dtype=float)
+    if len(tris) == 0 or len(verts) == 0:
+        return None, w
+    w_max = float(np.max(w))
+    ratio = w / w_max if w_max > 0 else np.zeros_like(w)
+    return Triangulation(verts[:, 0], verts[:, 1], tris), ratio
+
+
+def _title(result: Result, what: str) -> str:
+    title = result.model.title.strip()
+    lf_text = f"{what}  (load factor = {result.load_factor:.3f})" if what else f"load factor = {result.load_factor:.3f}"
+    return f"{title}\n{lf_text}" if title else lf_text
+
+
 def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
     """Draw the plan of the slab with the governing yield-line pattern; return the Axes.
 
@@ -211,22 +319,95 @@ def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
     _draw_outline(ax, outline, tuple(slab.edges), size)
     _draw_yield_lines(ax, result)
 
-    pad = 0.06 * size
-    ax.set_xlim(lo[0] - pad, hi[0] + pad)
-    ax.set_ylim(lo[1] - pad, hi[1] + pad)
-    ax.set_aspect("equal", adjustable="box")
-    ax.set_xlabel("x (m)")
-    ax.set_ylabel("y (m)")
-    ax.tick_params(labelsize=8)
+    _set_plan_limits(ax, lo, hi, size)
 
     if mappable is not None:
         cbar = ax.figure.colorbar(mappable, ax=ax, shrink=0.8, pad=0.02)
         cbar.set_label(DEFLECTION_LABEL, fontsize=8)
         cbar.ax.tick_params(labelsize=7)
 
-    title = result.model.title.strip()
-    lf_text = f"load factor = {result.load_factor:.3f}"
-    ax.set_title(f"{title}\n{lf_text}" if title else lf_text, fontsize=10)
+    ax.set_title(_title(result, ""), fontsize=10)
     ax.legend(handles=_legend_handles(result), loc="upper center", bbox_to_anchor=(0.5, -0.12),
               ncol=2, fontsize=7, frameon=False, handlelength=3.2)
+    return ax
+
+
+def plot_deflection(result: Result, ax: Axes | None = None) -> Axes:
+    """Plan of the mechanism's deflected shape as filled contours of w / w_max; return the Axes.
+
+    result: a hingeline Result. ax: Axes to draw on; a new 7 x 5.5 in figure with an
+    Agg canvas is made when None. The normalised deflection w / max(w) (0 on the
+    supports, 1 where the slab deflects most; dimensionless) is filled in steps of
+    0.1 from white to slate, with black contour lines labelled every 0.2; outline
+    (edge conditions as in `plot_pattern`), hatched openings, a colour bar
+    "w / w_max", a scale bar, equal aspect, axes in m. Never shows.
+    """
+    if ax is None:
+        ax = _new_axes()
+    slab = result.model.slab
+    outline, lo, hi, size = _plan_extent(result)
+    tri, ratio = _w_ratio(result)
+    if tri is not None:
+        extend = "min" if float(np.min(ratio)) < 0.0 else "neither"
+        filled = ax.tricontourf(tri, ratio, levels=CONTOUR_LEVELS, cmap=CONTOUR_CMAP, extend=extend, zorder=1)
+        lines = ax.tricontour(tri, ratio, levels=CONTOUR_LEVELS[1:-1], colors="black", linewidths=0.5,
+                              zorder=2)
+        labelled = [lv for lv in lines.levels if round(lv * 10) % 2 == 0]
+        if labelled:
+            ax.clabel(lines, levels=labelled, fmt="%.1f", fontsize=7, inline=True)
+        cbar = ax.figure.colorbar(filled, ax=ax, shrink=0.8, pad=0.02, ticks=CONTOUR_LEVELS[::2])
+        cbar.set_label(W_RATIO_LABEL, fontsize=8)
+        cbar.ax.tick_params(labelsize=7)
+    _draw_openings(ax, slab.openings)
+    _draw_outline(ax, outline, tuple(slab.edges), size)
+    _set_plan_limits(ax, lo, hi, size)
+    ax.set_title(_title(result, "deflected shape of the mechanism, w / w_max"), fontsize=10)
+    return ax
+
+
+def plot_deflection_3d(result: Result, ax: Axes | None = None) -> Axes:
+    """3-D view of the mechanism's deflected shape, w / w_max, sagging downward; return the Axes.
+
+    result: a hingeline Result. ax: a 3-D Axes (projection="3d") to draw on; a new
+    7 x 5.5 in figure with one is made when None. Raises ValueError for a 2-D Axes.
+    Draws the mechanism's triangles as a light grey shaded surface at depth
+    w / max(w) (dimensionless) below the plane of the supports: the z axis is
+    labelled downward (0 at the supports, 1 at the largest deflection), so the slab
+    sags on the page; the outline and opening edges are drawn at z = 0. x, y in m.
+    Never shows.
+    """
+    if ax is None:
+        ax = _new_axes(projection="3d")
+    elif getattr(ax, "name", "") != "3d":
+        raise ValueError("plot_deflection_3d needs a 3-D Axes (add_subplot(projection='3d'))")
+    slab = result.model.slab
+    outline, lo, hi, size = _plan_extent(result)
+    tri, ratio = _w_ratio(result)
+    # drawn at z = -w / w_max with an upward z axis (labelled as the downward
+    # ratio), so the camera looks at the slab from above and it sags on the page.
+    # Seen from above, nothing of the sagging surface can hide a line in the plane
+    # z = 0, so the edges are simply drawn last (mplot3d's depth sort can bury them).
+    ax.computed_zorder = False
+    if tri is not None:
+        ax.plot_trisurf(tri, -ratio, color=SURFACE_COLOUR, shade=True, edgecolor="0.5", linewidth=0.12,
+                        antialiased=True, zorder=1)
+    for poly in (outline, *[np.asarray(p, dtype=float) for p in slab.openings]):
+        ring = _closed(poly)
+        ax.plot(ring[:, 0], ring[:, 1], np.zeros(len(ring)), color=EDGE_COLOUR, linewidth=1.0,
+                zorder=3)
+    z_top = max(0.0, -float(np.min(ratio))) if ratio.size else 0.0
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
+    ax.set_zlim(-1.0, z_top)
+    span = hi - lo
+    ax.set_box_aspect((float(span[0]) or 1.0, float(span[1]) or 1.0, 0.25 * size))
+    ax.view_init(elev=38, azim=-58)
+    ax.set_xlabel("x (m)", fontsize=8)
+    ax.set_ylabel("y (m)", fontsize=8)
+    ax.set_zlabel(f"{W_RATIO_LABEL} (downward)", fontsize=8)
+    ax.set_zticks([-1.0, -0.5, 0.0], labels=["1.0", "0.5", "0"])
+    ax.tick_params(labelsize=7)
+    for axis in (ax.xaxis, ax.yaxis, ax.zaxis):
+        axis.set_pane_color((1.0, 1.0, 1.0, 0.0))
+    ax.set_title(_title(result, "deflected shape of the mechanism"), fontsize=10)
     return ax

@@ -7,6 +7,7 @@ from pathlib import Path
 
 from ..model import model_from_toml
 from . import report
+from .solve import write_files
 
 HELP = "solve the bundled demo slab and write its outputs to a folder (default hingeline-demo/)"
 
@@ -28,7 +29,7 @@ def run(args: argparse.Namespace) -> int:
     from ..solve import solve
 
     result = solve(model)
-    paths = report.write(result, args.outdir)
+    paths = write_files(result, args.outdir)
     report.print_summary(result, paths)
     print(f"demo outputs in folder: {args.outdir}")
     return 0

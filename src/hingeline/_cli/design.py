@@ -52,6 +52,6 @@ def run(args: argparse.Namespace) -> int:
     for w in (*d.result.warnings,):
         print(f"  warning     {w}")
     print("  caution     upper-bound method: the true scale needed is at or ABOVE this value (a finer "
-          "resolution can only raise it); shear, punching, deflection, ductility and detailing not "
+          "resolution usually raises it); shear, punching, deflection, ductility and detailing not "
           "checked; have a qualified engineer review it under local codes")
     return 0

@@ -10,12 +10,15 @@ import logging
 import sys
 
 from ..errors import HingelineError, SolverError
-from . import demo, solve
+from . import check, demo, design, record, solve
 
 #: Subcommand name -> module with add_args(parser) and run(args) -> int.
 COMMANDS = {
     "solve": solve,
     "demo": demo,
+    "report": record,
+    "check": check,
+    "design": design,
 }
 
 EXIT_OK = 0

@@ -5,23 +5,12 @@ import sys
 from pathlib import Path
 
 from ..errors import HingelineError
-from ..output import certificate_agrees, write_outputs
+from ..output import certificate_agrees
 from ..result import Result
 
 
 class OutputError(HingelineError):
     """The output folder cannot be written (exit code 2)."""
-
-
-def write(result: Result, outdir: Path) -> list[Path]:
-    """write_outputs, with OSError turned into a message naming the folder."""
-    try:
-        return write_outputs(result, outdir)
-    except OSError as exc:
-        reason = exc.strerror or str(exc)
-        where = exc.filename or outdir
-        raise OutputError(f"output folder '{outdir}': cannot write '{where}' ({reason}); "
-                          "choose another folder with -o") from None
 
 
 def print_summary(result: Result, paths: list[Path], out=None) -> None:

@@ -5,9 +5,14 @@ import argparse
 from pathlib import Path
 
 from ..model import RESOLUTIONS, read_model
+from ..result import Result
 from . import report
 
-HELP = "solve a model file; write OUTDIR/result.json and OUTDIR/pattern.png"
+#: Plot formats the command line writes (each as pattern.<fmt> and deflection.<fmt>).
+CLI_FORMATS = ("png", "svg")
+
+HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (yield lines) and "
+        "deflection.png/.svg (deflected shape)")
 
 
 def _element_size(text: str) -> float:
@@ -24,11 +29,24 @@ def _element_size(text: str) -> float:
 def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("model", type=Path, metavar="MODEL.toml", help="model file (see docs/model-format.md)")
     parser.add_argument("-o", "--outdir", type=Path, required=True, metavar="OUTDIR",
-                        help="folder for result.json and pattern.png (created if missing)")
+                        help="folder for result.json and the plots (created if missing)")
     parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
                         help="mesh resolution; overrides [analysis] resolution of the model file")
     parser.add_argument("--mesh-size", type=_element_size, default=None, metavar="M",
                         help="explicit element size in m; overrides resolution")
+
+
+def write_files(result: Result, outdir: Path) -> list[Path]:
+    """write_outputs in CLI_FORMATS, with OSError turned into a message naming the folder."""
+    from ..output import write_outputs
+
+    try:
+        return write_outputs(result, outdir, formats=CLI_FORMATS)
+    except OSError as exc:
+        reason = exc.strerror or str(exc)
+        where = exc.filename or outdir
+        raise report.OutputError(f"output folder '{outdir}': cannot write '{where}' ({reason}); "
+                                 "choose another folder with -o") from None
 
 
 def run(args: argparse.Namespace) -> int:
@@ -36,6 +54,6 @@ def run(args: argparse.Namespace) -> int:
     from ..solve import solve  # imported late: reading the model needs no solver
 
     result = solve(model, resolution=args.resolution, mesh_size=args.mesh_size)
-    paths = report.write(result, args.outdir)
+    paths = write_files(result, args.outdir)
     report.print_summary(result, paths)
     return 0

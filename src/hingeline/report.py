@@ -1,0 +1,473 @@
+"""Calculation record: one self-contained HTML page a checking engineer can follow.
+
+`build_report(model, results_by_resolution)` turns the solves of one model at
+several mesh resolutions into the text of an HTML page: model summary, method
+and assumptions, the load factor in words, the energy balance, resolution and
+convergence, warnings and the certificate check, the cautions and the drawings.
+Drawings are embedded (SVG as data URIs), CSS is inline; the page needs no
+network and no JavaScript. `write_report(model, outdir, resolutions)` solves,
+renders in memory and only then writes OUTDIR/report.html.
+
+`report_data(...)` returns the numbers the page prints (energy balance,
+convergence table) as plain Python values, for tests and other callers.
+
+Units: lengths m, moments kNm/m, area loads kPa, work kNm, time s.
+"""
+from __future__ import annotations
+
+import base64
+import html
+import io
+import logging
+import os
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from .certificate import work_per_load
+from .model import RESOLUTIONS, Model
+from .output import CERTIFICATE_RTOL, certificate_agrees, hingeline_version
+from .result import CAUTIONS, Result
+
+log = logging.getLogger(__name__)
+
+#: Resolutions every report is solved at (the requested one is added if different).
+REPORT_RESOLUTIONS = ("coarse", "normal")
+
+#: File name written by write_report.
+REPORT_NAME = "report.html"
+
+_CSS = """
+body { font-family: "DejaVu Sans", Arial, Helvetica, sans-serif; font-size: 10.5pt; color: #111;
+       max-width: 62em; margin: 1.5em auto; padding: 0 1em; line-height: 1.4; }
+h1 { font-size: 17pt; margin-bottom: 0.1em; border-bottom: 3px solid #1b3f8b; padding-bottom: 0.2em; }
+h2 { font-size: 12.5pt; margin-top: 1.6em; color: #1b3f8b; border-bottom: 1px solid #bbb; }
+h3 { font-size: 11pt; margin-bottom: 0.3em; }
+table { border-collapse: collapse; margin: 0.4em 0 0.8em 0; }
+th, td { border: 1px solid #999; padding: 0.2em 0.55em; text-align: left; vertical-align: top; }
+th { background: #e8ecf4; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+tr.total td { font-weight: bold; background: #f4f4f4; }
+.headline { font-size: 14pt; border: 2px solid #1b3f8b; background: #f2f5fb; padding: 0.5em 0.8em; margin: 0.8em 0; }
+.caution { border: 2px solid #8c1c13; background: #fbf1f0; padding: 0.4em 0.9em; margin: 0.8em 0; }
+.warn { color: #8c1c13; font-weight: bold; }
+.ok { color: #1d6b2f; font-weight: bold; }
+.meta { color: #555; font-size: 9pt; }
+figure { margin: 0.8em 0; page-break-inside: avoid; }
+figure img { max-width: 100%; border: 1px solid #ccc; }
+figcaption { font-size: 9pt; color: #333; }
+code { font-size: 9.5pt; }
+@media print { body { max-width: none; margin: 0; } h2 { page-break-after: avoid; } }
+"""
+
+
+def _e(text: object) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def _num(value: float, fmt: str = ".6g") -> str:
+    """A numeric table cell carrying the full-precision value in data-value."""
+    return f'<td class="num" data-value="{float(value)!r}">{format(float(value), fmt)}</td>'
+
+
+def _xy(p) -> str:
+    return f"({float(p[0]):.3f}, {float(p[1]):.3f})"
+
+
+def _ordered(labels) -> list[str]:
+    """Resolution labels coarse -> fine, any other label (explicit mesh size) last."""
+    rank = {r: i for i, r in enumerate(RESOLUTIONS)}
+    return sorted(labels, key=lambda k: (rank.get(k, len(RESOLUTIONS)), k))
+
+
+# --- numbers -------------------------------------------------------------------
+
+
+def energy_balance(model: Model, result: Result) -> dict:
+    """Work equation of `result`'s mechanism, kNm.
+
+    Returns dict with: groups (list of (label, count, work)) for sagging lines,
+    hogging lines and hinges at continuous edges; internal_sum (sum of the
+    groups); internal (result.work.internal); loads (list of dicts name, value,
+    factored, work); factored, held (sums of work_per_load); load_factor;
+    external (held + load_factor * factored); residual (internal - external).
+    """
+    yl = result.yield_lines
+    sag = np.asarray(yl.sagging, bool)
+    sup = np.asarray(yl.at_support, bool)
+    dis = np.asarray(yl.dissipation, float)
+    groups = [
+        ("sagging yield lines (bottom bars)", sag & ~sup),
+        ("hogging yield lines (top bars)", ~sag & ~sup),
+        ("hinges along continuous edges (top bars)", sup),
+    ]
+    groups = [(label, int(m.sum()), float(dis[m].sum())) for label, m in groups]
+    works = work_per_load(model, result.mechanism)
+    loads = [{"name": ld.name, "value": float(ld.value), "factored": bool(ld.factored),
+              "region": ld.region is not None, "work": float(w)} for ld, w in zip(model.loads, works)]
+    factored = sum(d["work"] for d in loads if d["factored"])
+    held = sum(d["work"] for d in loads if not d["factored"])
+    lf = float(result.load_factor)
+    external = held + lf * factored
+    internal = float(result.work.internal)
+    return {
+        "groups": groups,
+        "internal_sum": float(sum(g[2] for g in groups)),
+        "internal": internal,
+        "loads": loads,
+        "factored": factored,
+        "held": held,
+        "load_factor": lf,
+        "external": external,
+        "residual": internal - external,
+    }
+
+
+def convergence_rows(results: Mapping[str, Result]) -> list[dict]:
+    """One row per solve, coarse -> fine: label, load_factor, nodes, slab_nodes,
+    candidate_lines, lp_lines, active_lines, rounds, seconds."""
+    rows = []
+    for label in _ordered(results):
+        r = results[label]
+        s = r.stats
+        rows.append({"label": label, "load_factor": float(r.load_factor), "nodes": s.nodes,
+                     "slab_nodes": s.slab_nodes, "candidate_lines": s.candidate_lines,
+                     "lp_lines": s.lp_lines, "active_lines": len(r.yield_lines), "rounds": s.rounds,
+                     "seconds": float(s.seconds), "mesh_size": float(s.mesh_size)})
+    return rows
+
+
+def _trend(rows: list[dict]) -> str:
+    if len(rows) < 2:
+        return ("Only one resolution was solved, so no trend can be stated; solve at a finer "
+                "resolution to see how far the upper bound falls.")
+    lfs = [r["load_factor"] for r in rows]
+    steps = [b - a for a, b in zip(lfs, lfs[1:])]
+    names = " → ".join(r["label"] for r in rows)
+    change = (lfs[-1] - lfs[0]) / abs(lfs[0]) * 100 if lfs[0] else float("nan")
+    if all(d <= 1e-9 * max(1.0, abs(a)) for d, a in zip(steps, lfs)):
+        text = (f"The load factor falls (or stays) with each refinement ({names}: {change:+.2f} % overall), "
+                "as expected of upper bounds: a finer mesh offers more candidate lines, so the mechanism "
+                "found can only get closer to the true one from above.")
+    else:
+        text = (f"The load factor does not fall at every refinement ({names}: {change:+.2f} % overall). "
+                "The meshes are not nested, so a finer mesh need not contain every line of a coarser one; "
+                "each value is still an upper bound and the lowest of them is the best estimate.")
+    return text
+
+
+def report_data(model: Model, results: Mapping[str, Result], primary: str | None = None) -> dict:
+    """The numbers the report prints: primary label, energy balance, convergence rows."""
+    if not results:
+        raise ValueError("report needs at least one result")
+    primary = _primary(model, results, primary)
+    return {"primary": primary, "balance": energy_balance(model, results[primary]),
+            "convergence": convergence_rows(results)}
+
+
+def _primary(model: Model, results: Mapping[str, Result], primary: str | None) -> str:
+    if primary is not None:
+        if primary not in results:
+            raise ValueError(f"primary resolution {primary!r} is not among the results {list(results)}")
+        return primary
+    if model.analysis.resolution in results and model.analysis.mesh_size is None:
+        return model.analysis.resolution
+    return _ordered(results)[-1]
+
+
+# --- drawings --------------------------------------------------------------------
+
+
+def _figure_svg(draw, result: Result) -> str:
+    """Data URI of an SVG figure drawn by draw(result, ax=ax)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(7.0, 5.5), layout="constrained")
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot()
+    draw(result, ax=ax)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="svg", dpi=150, metadata={"Creator": f"hingeline {hingeline_version()}",
+                                                     "Date": None})
+    return "data:image/svg+xml;base64," + base64.b64encode(buf.getvalue()).decode("ascii")
+
+
+def _drawings(result: Result) -> list[tuple[str, str, str]]:
+    """(title, data URI, caption) for each drawing available."""
+    from . import plot
+
+    out = [("Yield-line pattern (plan)", _figure_svg(plot.plot_pattern, result),
+            "Sagging yield lines solid dark red, hogging dash-dot dark blue; line weight grows with "
+            "rotation. Grey shading: deflection of the mechanism (normalised). Supports as in the legend.")]
+    deflection = getattr(plot, "plot_deflection", None)
+    if callable(deflection):
+        out.append(("Deflection of the mechanism (contours)", _figure_svg(deflection, result),
+                    "Deflected shape of the collapse mechanism, normalised so that the factored loads "
+                    "do 1 kNm of work; only its shape matters, not its size."))
+    return out
+
+
+# --- page ----------------------------------------------------------------------------
+
+
+def _model_section(model: Model) -> str:
+    s, c = model.slab, model.capacity
+    out = ["<h2>1. Model</h2>", "<table>"]
+    out.append(f"<tr><th>Title</th><td>{_e(model.title or '(untitled)')}</td></tr>")
+    out.append(f"<tr><th>Thickness</th><td>{'%.3f m' % s.thickness if s.thickness else 'not given'}</td></tr>")
+    area = _poly_area(s.outline) - sum(_poly_area(o) for o in s.openings)
+    out.append(f"<tr><th>Slab area (openings deducted)</th><td>{area:.3f} m²</td></tr>")
+    out.append("</table>")
+
+    out.append("<h3>Outline and edge conditions</h3><table><tr><th>edge</th><th>from (x, y) m</th>"
+               "<th>to (x, y) m</th><th>length m</th><th>condition</th></tr>")
+    n = len(s.outline)
+    for k in range(n):
+        a, b = s.outline[k], s.outline[(k + 1) % n]
+        out.append(f"<tr><td>{k + 1}</td><td>{_xy(a)}</td><td>{_xy(b)}</td>"
+                   f"<td class=\"num\">{float(np.hypot(*(b - a))):.3f}</td><td>{_e(s.edges[k])}</td></tr>")
+    out.append("</table>")
+    if s.openings:
+        out.append("<h3>Openings (all edges free)</h3><table><tr><th>opening</th><th>vertices (x, y) m</th>"
+                   "<th>area m²</th></tr>")
+        for k, o in enumerate(s.openings):
+            out.append(f"<tr><td>{k + 1}</td><td>{', '.join(_xy(p) for p in o)}</td>"
+                       f"<td class=\"num\">{_poly_area(o):.3f}</td></tr>")
+        out.append("</table>")
+    else:
+        out.append("<p>No openings.</p>")
+
+    out.append("<h3>Moment capacities (kNm/m)</h3><table><tr><th></th><th>bar direction 1</th>"
+               "<th>bar direction 2</th></tr>")
+    out.append(f"<tr><th>sagging (bottom bars)</th><td class=\"num\">{c.sagging[0]:.3f}</td>"
+               f"<td class=\"num\">{c.sagging[1]:.3f}</td></tr>")
+    out.append(f"<tr><th>hogging (top bars)</th><td class=\"num\">{c.hogging[0]:.3f}</td>"
+               f"<td class=\"num\">{c.hogging[1]:.3f}</td></tr></table>")
+    out.append(f"<p>Bar direction 1 is at {c.bar_angle:.2f}° from the x axis; direction 2 is 90° further. "
+               "Capacity normal to a line follows Johansen's stepped criterion.</p>")
+
+    out.append("<h3>Loads</h3><table><tr><th>name</th><th>kPa</th><th>acts on</th><th>treatment</th></tr>")
+    for ld in model.loads:
+        where = ("whole slab" if ld.region is None
+                 else "region " + ", ".join(_xy(p) for p in ld.region))
+        kind = "factored (multiplied by the load factor)" if ld.factored else "held (present at this value)"
+        out.append(f"<tr><td>{_e(ld.name)}</td><td class=\"num\">{ld.value:.3f}</td><td>{_e(where)}</td>"
+                   f"<td>{kind}</td></tr>")
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def _poly_area(p) -> float:
+    p = np.asarray(p, float)
+    x, y = p[:, 0], p[:, 1]
+    return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+
+_METHOD = """
+<h2>2. Method and assumptions</h2>
+<ul>
+<li><b>Theory.</b> Johansen's yield-line theory with the upper-bound (kinematic) theorem of plasticity:
+every admissible collapse mechanism gives a load factor at or above the true collapse factor.
+The capacity normal to a yield line follows Johansen's stepped criterion,
+m<sub>n</sub> = m<sub>1</sub>(n·e<sub>1</sub>)² + m<sub>2</sub>(n·e<sub>2</sub>)², for bottom and top bars separately.</li>
+<li><b>Search.</b> Discontinuity layout optimisation (DLO) after Gilbert, He, Smith and Le, "Automatic
+yield-line analysis of slabs using discontinuity layout optimization", Proc. R. Soc. A 470 (2014) 20140071:
+the slab is covered with nodes, every straight node-to-node line is a candidate yield line, and a linear
+program (HiGHS) picks the rotations giving the lowest load factor.</li>
+<li><b>Slab behaviour.</b> Rigid-plastic, hinges of unlimited rotation capacity, no membrane action,
+no shear failure.</li>
+<li><b>Supports.</b> Supported edges hold the slab down as well as up (two-sided). A simply supported edge
+rotates freely. A continuous edge develops the hogging capacity normal to it when the slab falls away
+from it; rotation the other way (uplift next to the support) is taken as free, which can only lower the
+load factor (safe side).</li>
+<li><b>Openings and free edges</b> carry no moment. They are modelled by filling the openings, and a strip
+beyond each free edge, with a material of no strength and no load, so the slab beside them moves freely.</li>
+<li><b>Loads</b> are uniform over the slab or over polygonal patches; factored loads are scaled by the load
+factor, held loads stay at their given value.</li>
+<li><b>Check.</b> The mechanism found is re-checked independently of the linear program: internal and
+external work are recomputed from the deflected shape alone (section 6).</li>
+</ul>
+"""
+
+
+def build_report(model: Model, results_by_resolution: Mapping[str, Result], primary: str | None = None,
+                 generated: str | None = None) -> str:
+    """HTML text of the calculation record.
+
+    results_by_resolution: label ("coarse", "normal", "fine" or another label) ->
+    Result of solving `model` there. primary: the label whose mechanism the record
+    reports in full (default: the model's resolution if solved, else the finest).
+    generated: timestamp text for the header (default: now, UTC).
+    All user text is HTML-escaped; the page has inline CSS and embedded drawings only.
+    """
+    data = report_data(model, results_by_resolution, primary)
+    primary = data["primary"]
+    res = results_by_resolution[primary]
+    bal, rows = data["balance"], data["convergence"]
+    lf = float(res.load_factor)
+    title = model.title or "Untitled slab"
+    generated = generated or datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    has_held = any(not ld.factored for ld in model.loads)
+
+    p: list[str] = []
+    p.append("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">")
+    p.append(f"<title>Calculation record: {_e(title)}</title><style>{_CSS}</style></head><body>")
+    p.append(f"<h1>Yield-line calculation record: {_e(title)}</h1>")
+    p.append(f"<p class=\"meta\">hingeline {_e(hingeline_version())} · generated {_e(generated)} · "
+             f"reported mesh: {_e(primary)} ({res.stats.slab_nodes} nodes on the slab)</p>")
+    p.append("<div class=\"caution\"><b>Cautions.</b><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS)
+             + "</ul></div>")
+
+    held_words = ", with the held loads present at their given values" if has_held else ""
+    p.append(f"<div class=\"headline\">Load factor <b id=\"load-factor\" data-value=\"{lf!r}\">{lf:.3f}</b></div>")
+    p.append(f"<p>The factored loads can be multiplied by <b>{lf:.3f}</b> before the slab collapses by the "
+             f"mechanism shown{held_words}. This is an <b>upper bound</b>: the true collapse factor is at or "
+             f"below this value. "
+             + ("A value below 1 means the slab cannot carry the factored loads by this mechanism."
+                if lf < 1 else "A value of 1 or more means the factored loads are carried, with that margin, "
+                "as far as flexure is concerned, if no mechanism with a lower factor exists.")
+             + "</p>")
+    better = [r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary]
+    if better:
+        b = min(better, key=lambda r: r["load_factor"])
+        p.append(f"<p class=\"warn\">A lower upper bound, {b['load_factor']:.3f}, was found at the "
+                 f"{_e(b['label'])} resolution (section 5). The lowest upper bound found governs.</p>")
+
+    p.append(_model_section(model))
+    p.append(_METHOD)
+
+    # 3. drawings
+    p.append("<h2>3. Collapse mechanism</h2>")
+    yl = res.yield_lines
+    n_sag = int(np.sum(np.asarray(yl.sagging, bool)))
+    p.append(f"<p>{len(yl)} active yield lines: {n_sag} sagging, {len(yl) - n_sag} hogging "
+             f"({int(np.sum(np.asarray(yl.at_support, bool)))} of them along supported edges).</p>")
+    for k, (name, uri, caption) in enumerate(_drawings(res)):
+        p.append(f"<figure><img alt=\"{_e(name)}\" src=\"{uri}\"><figcaption>Figure {k + 1}. {_e(name)}. "
+                 f"{_e(caption)}</figcaption></figure>")
+
+    # 4. energy balance
+    p.append("<h2>4. Work equation</h2>")
+    p.append("<p>The mechanism is scaled so that the factored loads do 1 kNm of work. Internal work "
+             "(dissipated in the yield lines) equals external work: "
+             "<i>internal = held + λ × factored</i>.</p>")
+    p.append("<h3>Internal work</h3><table id=\"internal-work\"><tr><th>group</th><th>lines</th>"
+             "<th>work kNm</th></tr>")
+    for label, count, work in bal["groups"]:
+        p.append(f"<tr><td>{_e(label)}</td><td class=\"num\">{count}</td>{_num(work, '.9g')}</tr>")
+    p.append(f"<tr class=\"total\"><td>sum (internal work)</td><td></td>{_num(bal['internal_sum'], '.9g')}</tr>")
+    p.append("</table>")
+    if abs(bal["internal_sum"] - bal["internal"]) > 1e-9 * max(1.0, abs(bal["internal"])):
+        p.append(f"<p class=\"warn\">The line groups sum to {bal['internal_sum']:.9g} kNm but the solve "
+                 f"reports {bal['internal']:.9g} kNm.</p>")
+    p.append("<h3>External work</h3><table id=\"external-work\"><tr><th>load</th><th>kPa</th><th>treatment</th>"
+             "<th>work on the mechanism kNm</th></tr>")
+    for d in bal["loads"]:
+        p.append(f"<tr><td>{_e(d['name'])}</td><td class=\"num\">{d['value']:.3f}</td>"
+                 f"<td>{'factored' if d['factored'] else 'held'}</td>{_num(d['work'], '.9g')}</tr>")
+    p.append(f"<tr class=\"total\"><td>sum of factored loads</td><td></td><td></td>{_num(bal['factored'], '.9g')}</tr>")
+    p.append(f"<tr class=\"total\"><td>sum of held loads</td><td></td><td></td>{_num(bal['held'], '.9g')}</tr>")
+    p.append("</table>")
+    p.append("<h3>Balance</h3><table id=\"balance\">")
+    p.append(f"<tr><td>held + λ × factored = {bal['held']:.9g} + {lf:.9g} × {bal['factored']:.9g}</td>"
+             f"{_num(bal['external'], '.9g')}<td>kNm</td></tr>")
+    p.append(f"<tr><td>internal work</td>{_num(bal['internal'], '.9g')}<td>kNm</td></tr>")
+    p.append(f"<tr class=\"total\"><td>difference</td>{_num(bal['residual'], '.3e')}<td>kNm</td></tr></table>")
+
+    # 5. convergence
+    p.append("<h2>5. Resolution and convergence</h2>")
+    p.append("<p>The same model solved on meshes of increasing fineness. Nodes include the fill beyond "
+             "free edges and in openings; lines are candidates / in the final linear program / active.</p>")
+    p.append("<table id=\"convergence\"><tr><th>resolution</th><th>element size m</th><th>load factor</th>"
+             "<th>nodes (on slab)</th><th>lines cand. / LP / active</th><th>LP rounds</th><th>time s</th></tr>")
+    for r in rows:
+        mark = " (reported)" if r["label"] == primary else ""
+        p.append(f"<tr><td>{_e(r['label'])}{mark}</td><td class=\"num\">{r['mesh_size']:.3f}</td>"
+                 f"{_num(r['load_factor'], '.4f')}<td class=\"num\">{r['nodes']} ({r['slab_nodes']})</td>"
+                 f"<td class=\"num\">{r['candidate_lines']} / {r['lp_lines']} / {r['active_lines']}</td>"
+                 f"<td class=\"num\">{r['rounds']}</td><td class=\"num\">{r['seconds']:.2f}</td></tr>")
+    p.append("</table>")
+    p.append(f"<p>{_e(_trend(rows))}</p>")
+
+    # 6. warnings and certificate
+    p.append("<h2>6. Warnings and independent check</h2>")
+    if res.warnings:
+        p.append("<ul>" + "".join(f"<li class=\"warn\">{_e(w)}</li>" for w in res.warnings) + "</ul>")
+    else:
+        p.append("<p>The solve raised no warnings.</p>")
+    chk = res.certificate
+    w_max = float(np.max(np.abs(res.mechanism.w))) if len(res.mechanism.w) else 0.0
+    agrees = certificate_agrees(res)
+    p.append("<table id=\"certificate\">")
+    p.append(f"<tr><td>load factor from the linear program</td>{_num(lf, '.9g')}</tr>")
+    p.append(f"<tr><td>load factor recomputed from the deflected shape alone</td>{_num(chk.load_factor, '.9g')}</tr>")
+    p.append(f"<tr><td>relative difference</td>{_num(abs(chk.load_factor - lf) / max(1.0, abs(lf)), '.2e')}</tr>")
+    p.append(f"<tr><td>largest |w| on supported edges (m per kNm)</td>{_num(chk.max_support_w, '.2e')}</tr>")
+    p.append(f"<tr><td>largest |w| anywhere (m per kNm)</td>{_num(w_max, '.3e')}</tr></table>")
+    verdict = (f"<p class=\"ok\">The check agrees (within {CERTIFICATE_RTOL:g} relative; supports do not move).</p>"
+               if agrees else "<p class=\"warn\">The check DOES NOT AGREE: do not use this result.</p>")
+    p.append(verdict)
+
+    # 7. cautions again, at the end
+    p.append("<h2>7. Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul>")
+    p.append("<p>Shear, punching shear, deflection, ductility and detailing are not checked by this record "
+             "and must be checked separately.</p>")
+    p.append("</body></html>\n")
+    return "\n".join(p)
+
+
+def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
+                      primary: str | None = None) -> tuple[dict[str, Result], str]:
+    """Solve `model` at each resolution; return (results by label, primary label).
+
+    resolutions: default REPORT_RESOLUTIONS plus the primary. primary: resolution
+    reported in full (default: the model's; when the model sets analysis.mesh_size
+    and no primary is given, that mesh size is solved too and is primary).
+    """
+    from .solve import solve
+
+    plan: dict[str, tuple[str | None, float | None]] = {}
+    if primary is None and model.analysis.mesh_size is not None:
+        primary = f"mesh size {model.analysis.mesh_size:g} m"
+        plan[primary] = (None, model.analysis.mesh_size)
+    primary = primary or model.analysis.resolution
+    names = list(resolutions) if resolutions is not None else list(REPORT_RESOLUTIONS)
+    if primary in RESOLUTIONS and primary not in names:
+        names.append(primary)
+    for r in names:
+        if r not in RESOLUTIONS:
+            raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {r!r}")
+        plan.setdefault(r, (r, None))
+    results = {}
+    for label in _ordered(plan):
+        res, size = plan[label]
+        log.info("report: solving at %s", label)
+        results[label] = solve(model, resolution=res, mesh_size=size)
+    return results, primary
+
+
+def write_report(model: Model, outdir: str | os.PathLike, resolutions: Sequence[str] | None = None,
+                 primary: str | None = None) -> Path:
+    """Solve `model` (see solve_resolutions), write OUTDIR/report.html; return its path.
+
+    The page is built in memory first and written to a temporary name that is then
+    renamed, so a failure leaves no half-written report. Raises OSError when the
+    folder cannot be written, and what `solve` raises.
+    """
+    results, primary = solve_resolutions(model, resolutions, primary)
+    text = build_report(model, results, primary)
+    out = Path(outdir)
+    out.mkdir(parents=True, exist_ok=True)
+    final = out / REPORT_NAME
+    tmp = out / f".{REPORT_NAME}.tmp-{os.getpid()}"
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, final)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+    log.info("wrote %s", final)
+    return final
