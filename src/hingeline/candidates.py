@@ -20,7 +20,7 @@ import numpy as np
 import shapely
 
 from .capacity import capacity_at, normal_capacity
-from .geometry import CONTINUOUS, MARGIN, Domain, segment_distance
+from .geometry import HOGGING_SUPPORT, MARGIN, Domain, segment_distance
 from .model import Model
 
 INTERIOR = -1
@@ -164,26 +164,26 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
 
     # Lines on the slab boundary or on the boundary of D.
     slab_edge = _shared_edge(segment_distance(nodes, domain.edges) <= 10 * tol, a, b)
-    bnd = domain.boundary
-    d_edges = np.stack([bnd, np.roll(bnd, -1, axis=0)], axis=1)
+    d_edges = np.concatenate([np.stack([r, np.roll(r, -1, axis=0)], axis=1) for r in domain.rings])
     on_d = _shared_edge(segment_distance(nodes, d_edges) <= 10 * tol, a, b) >= 0
     kind = np.full(len(a), INTERIOR)
     kind[on_d] = MARGIN
     kind[slab_edge >= 0] = domain.edge_kind[slab_edge[slab_edge >= 0]]
 
-    # Interior lines must stay inside D: no crossing of its boundary, midpoint inside.
-    interior = np.flatnonzero(kind == INTERIOR)
-    region_convex = domain.region.convex_hull.area <= domain.region.area * (1 + 1e-12)
-    if not region_convex:
+    # Lines must stay inside D: interior ones cross none of its rings and have their midpoint
+    # inside; boundary ones have their midpoint on D (a slab edge under a column is not).
+    simple_region = (isinstance(domain.region, shapely.Polygon) and not domain.region.interiors
+                     and domain.region.convex_hull.area <= domain.region.area * (1 + 1e-12))
+    if not simple_region:
+        ok = np.ones(len(a), bool)
+        interior = np.flatnonzero(kind == INTERIOR)
         i, _, _ = crossings(p[interior], q[interior], d_edges, tol)
-        ok = np.ones(len(interior), bool)
-        ok[i] = False
-        mid = 0.5 * (p[interior] + q[interior])
-        ok &= shapely.contains_xy(domain.region, mid[:, 0], mid[:, 1])
-        drop = interior[~ok]
-        keep = np.ones(len(a), bool)
-        keep[drop] = False
-        a, b, p, q, kind, slab_edge = a[keep], b[keep], p[keep], q[keep], kind[keep], slab_edge[keep]
+        ok[interior[i]] = False
+        mid = 0.5 * (p + q)
+        inside = shapely.contains_xy(domain.region, mid[:, 0], mid[:, 1])
+        near = shapely.dwithin(domain.region, shapely.points(mid), 10 * tol)
+        ok &= np.where(kind == INTERIOR, inside, near)
+        a, b, p, q, kind, slab_edge = a[ok], b[ok], p[ok], q[ok], kind[ok], slab_edge[ok]
 
     vec = q - p
     length = np.hypot(vec[:, 0], vec[:, 1])
@@ -215,7 +215,9 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
         cap = model.capacity
         cost_plus = normal_capacity(cap.sagging, cap.bar_angle, normal) * slab_length
         cost_minus = normal_capacity(cap.hogging, cap.bar_angle, normal) * slab_length
-    cont = np.flatnonzero(kind == CONTINUOUS)
+    # Hinges along continuous edges and monolithic column/wall faces mobilise the hogging
+    # capacity; the other sense (slab lifting next to the support) is free, as on every support.
+    cont = np.flatnonzero(np.isin(kind, HOGGING_SUPPORT))
     _, m_minus = capacity_at(model, 0.5 * (p[cont] + q[cont]), normal[cont], 10 * tol)
     cost_minus[cont] = m_minus * length[cont]
     return Candidates(a, b, length, tangent, normal, slab_length, kind, slab_edge,

@@ -39,11 +39,26 @@ def _gradients(V, T, w):
 
 
 def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
-    """Supported outline edges (s, 2, 2) and whether each is continuous (s,)."""
+    """Supported outline edges and faces of columns and walls (s, 2, 2), and whether each
+    mobilises the hogging capacity (continuous edge, monolithic support) (s,)."""
     outline = model.slab.outline
     ks = [k for k, kind in enumerate(model.slab.edges) if kind != "free"]
-    edges = np.array([[outline[k], outline[(k + 1) % len(outline)]] for k in ks]).reshape(-1, 2, 2)
-    return edges, np.array([model.slab.edges[k] == "continuous" for k in ks], bool)
+    edges = [np.array([[outline[k], outline[(k + 1) % len(outline)]] for k in ks]).reshape(-1, 2, 2)]
+    hog = [np.array([model.slab.edges[k] == "continuous" for k in ks], bool)]
+    for sp in model.supports:
+        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+            ring = np.asarray(part.exterior.coords)
+            edges.append(np.stack([ring[:-1], ring[1:]], axis=1))
+            hog.append(np.full(len(ring) - 1, sp.connection == "monolithic"))
+    return np.concatenate(edges), np.concatenate(hog)
+
+
+def slab_region(model: Model):
+    """The slab as a shapely polygon: outline less openings and the footprints of supports."""
+    slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
+    for sp in model.supports:
+        slab = slab.difference(sp.polygon)
+    return slab
 
 
 def _zone_edges(model: Model) -> np.ndarray:
@@ -133,7 +148,7 @@ def work_per_load(model: Model, mech: Mechanism) -> list[float]:
     g, tri_area = _gradients(V, T, w)
     polys = shapely.polygons(V[T])
     tol = 0.1 * _tolerance(model)
-    slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
+    slab = slab_region(model)
     tri_centroid = V[T].mean(axis=1)
     works = []
     for load in model.loads:

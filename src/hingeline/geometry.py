@@ -25,7 +25,9 @@ from .errors import ModelError
 from .model import Model
 
 # Segment kinds of the slab boundary (codes used across the pipeline).
-FREE, SIMPLE, CONTINUOUS, OPENING, MARGIN = 0, 1, 2, 3, 4
+FREE, SIMPLE, CONTINUOUS, OPENING, MARGIN, FACE_MONOLITHIC, FACE_PINNED = 0, 1, 2, 3, 4, 5, 6
+SUPPORTED = (SIMPLE, CONTINUOUS, FACE_MONOLITHIC, FACE_PINNED)   # w = 0 along these
+HOGGING_SUPPORT = (CONTINUOUS, FACE_MONOLITHIC)                  # hinges there cost the hogging capacity
 KIND_CODES = {"free": FREE, "simple": SIMPLE, "continuous": CONTINUOUS}
 
 
@@ -33,17 +35,21 @@ KIND_CODES = {"free": FREE, "simple": SIMPLE, "continuous": CONTINUOUS}
 class Domain:
     """The analysis domain and the slab inside it.
 
-    boundary: (k, 2) counter-clockwise vertices of D (its boundary is all ground).
+    rings: every boundary ring of D as a (k, 2) array (outer rings and the rings round
+        islands of ground, i.e. columns and walls standing inside the slab).
+    islands: the island rings; each needs its own conditions in the LP (w and slope 0).
     slab: shapely Polygon of the slab (outline with openings as holes).
     region: shapely Polygon of D.
     edges: (e, 2, 2) straight pieces of the slab boundary (outline and openings).
-    edge_kind: (e,) kind code of each piece (FREE, SIMPLE, CONTINUOUS, OPENING).
+    edge_kind: (e,) kind code of each piece (FREE, SIMPLE, CONTINUOUS, OPENING, FACE_*);
+        faces of columns and walls come first.
     edge_label: (e,) text naming the piece for messages ("edge 2", "opening 1").
     margin: width of the fill strip beyond free edges, m (0 if none).
     scale: a length of the model (bounding-box diagonal), m, for tolerances.
     """
 
-    boundary: np.ndarray
+    rings: tuple[np.ndarray, ...]
+    islands: tuple[np.ndarray, ...]
     slab: Polygon
     region: Polygon
     edges: np.ndarray
@@ -94,9 +100,16 @@ def build_domain(model: Model, margin: float) -> Domain:
     lo, hi = outline.min(axis=0), outline.max(axis=0)
     scale = float(np.hypot(*(hi - lo)))
 
-    edges = [_closed_edges(outline)]
-    edge_kind = [kinds]
-    labels = [f"edge {k + 1}" for k in range(len(outline))]
+    edges, edge_kind, labels = [], [], []
+    footprint = shapely.union_all([sp.polygon for sp in model.supports]) if model.supports else None
+    for sp in model.supports:
+        for ring in _rings(sp.polygon):
+            edges.append(_closed_edges(ring))
+            edge_kind.append(np.full(len(ring), FACE_MONOLITHIC if sp.connection == "monolithic" else FACE_PINNED))
+            labels += [sp.name] * len(ring)
+    edges.append(_closed_edges(outline))
+    edge_kind.append(kinds)
+    labels += [f"edge {k + 1}" for k in range(len(outline))]
     for j, op in enumerate(slab.openings):
         op = np.asarray(op, float)
         edges.append(_closed_edges(op))
@@ -110,8 +123,23 @@ def build_domain(model: Model, margin: float) -> Domain:
         used = 0.0
     else:
         region, used = _with_margin(outer, outline, kinds, margin, scale)
-    boundary = np.asarray(shapely.geometry.polygon.orient(region, 1.0).exterior.coords)[:-1]
-    return Domain(boundary, slab_poly, region, edges, edge_kind, tuple(labels), used, scale)
+    islands = []
+    if footprint is not None:
+        region = region.difference(footprint)
+        slab_poly = slab_poly.difference(footprint)
+        islands = [r for part in getattr(region, "geoms", [region]) for r in _rings(part)[1:]]
+    return Domain(tuple(_rings(region)), tuple(islands), slab_poly, region, edges, edge_kind,
+                  tuple(labels), used, scale)
+
+
+def _rings(poly) -> list[np.ndarray]:
+    """Vertex arrays (no closing repeat) of every ring of a (Multi)Polygon: for each part its
+    exterior (counter-clockwise) then its holes."""
+    out = []
+    for part in getattr(poly, "geoms", [poly]):
+        part = shapely.geometry.polygon.orient(part, 1.0)
+        out += [np.asarray(r.coords)[:-1] for r in [part.exterior, *part.interiors]]
+    return out
 
 
 def _free_runs(outline: np.ndarray, kinds: np.ndarray) -> list[np.ndarray]:
@@ -169,8 +197,11 @@ def _with_margin(outer, outline, kinds, margin, scale):
     width = margin
     for _ in range(8):
         # Outline is counter-clockwise, so the outside lies to the right: negative single-sided buffer.
-        strips = [_trimmed(LineString(r).buffer(-width, single_sided=True, join_style="bevel"), r, outline, width)
-                  for r in runs]
+        if np.all(kinds == FREE):  # slab on columns or walls alone: a strip all round
+            strips = [outer.buffer(width, join_style="bevel")]
+        else:
+            strips = [_trimmed(LineString(r).buffer(-width, single_sided=True, join_style="bevel"), r, outline, width)
+                      for r in runs]
         region = shapely.union_all([outer, *strips]).buffer(0)
         ok = (
             isinstance(region, Polygon)

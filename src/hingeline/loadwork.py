@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import numpy as np
 import shapely
+from scipy import sparse
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 
@@ -97,6 +98,36 @@ def point_load_work(p: np.ndarray, q: np.ndarray, at: np.ndarray, force: float) 
         ny = np.abs(d[:, 0]) / np.hypot(d[:, 0], d[:, 1])
         f[sel] = -force * ny * np.maximum(y - at[1], 0.0)
     return f
+
+
+def island_rows(p: np.ndarray, q: np.ndarray, islands) -> sparse.csr_matrix:
+    """Coefficients (c, 3k) of the conditions that k islands of ground stay at rest.
+
+    For a point c inside an island, the deflection and slope follow from the lines crossed by
+    the vertical ray upward from c to the outer ground (as for a point load):
+        w(c) = -sum theta_i |n_y,i| (y_i(c_x) - c_y),   grad w(c) = sum theta_i nu_i,
+    nu_i the unit normal of line i pointing up. Rows 3j, 3j+1, 3j+2: w, w_x, w_y of island j.
+    """
+    rows, cols, vals = [], [], []
+    x0, x1 = np.minimum(p[:, 0], q[:, 0]), np.maximum(p[:, 0], q[:, 0])
+    for j, ring in enumerate(islands):
+        c = np.asarray(shapely.Polygon(ring).representative_point().coords[0])
+        sel = np.flatnonzero((x0 <= c[0]) & (c[0] < x1))
+        t = (c[0] - p[sel, 0]) / (q[sel, 0] - p[sel, 0])
+        y = p[sel, 1] + t * (q[sel, 1] - p[sel, 1])
+        sel, y = sel[y > c[1]], y[y > c[1]]
+        d = q[sel] - p[sel]
+        L = np.hypot(d[:, 0], d[:, 1])
+        nu = np.stack([-d[:, 1], d[:, 0]], axis=1) / L[:, None]
+        nu *= np.sign(nu[:, 1])[:, None]
+        for r, v in ((3 * j, -nu[:, 1] * (y - c[1])), (3 * j + 1, nu[:, 0]), (3 * j + 2, nu[:, 1])):
+            rows.append(sel)
+            cols.append(np.full(len(sel), r))
+            vals.append(v)
+    if not rows:
+        return sparse.csr_matrix((len(p), 0))
+    return sparse.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                             shape=(len(p), 3 * len(islands)))
 
 
 def line_load_work(p: np.ndarray, q: np.ndarray, path: np.ndarray, intensity: float) -> np.ndarray:

@@ -46,23 +46,33 @@ class LPSolution:
     max_violation: float
 
 
-def _columns(cand, f, g, idx, n_nodes):
-    """HiGHS column data for lines idx: each gives a +theta and a -theta column."""
+def _columns(cand, f, g, idx, n_nodes, extra):
+    """HiGHS column data for lines idx: each gives a +theta and a -theta column.
+    extra: (c, r) sparse coefficients of the lines in the island rows (after the work row)."""
     a, b, t = cand.a[idx], cand.b[idx], cand.tangent[idx]
+    k = len(idx)
     rows = np.stack([2 * a, 2 * a + 1, 2 * b, 2 * b + 1, np.full_like(a, 2 * n_nodes)], axis=1)
     vals = np.stack([t[:, 0], t[:, 1], -t[:, 0], -t[:, 1], f[idx]], axis=1)
-    k = len(idx)
+    line = np.repeat(np.arange(k), 5)
+    row, val = rows.ravel(), vals.ravel()
+    if extra is not None and extra.shape[1]:
+        e = extra[idx].tocoo()
+        line = np.concatenate([line, e.row])
+        row = np.concatenate([row, 2 * n_nodes + 1 + e.col])
+        val = np.concatenate([val, e.data])
+    keep = val != 0.0  # e.g. f of a vertical line
+    line, row, val = line[keep], row[keep], val[keep]
+    # Column 2j is +theta_j, column 2j+1 is -theta_j (negated entries).
+    col = np.concatenate([2 * line, 2 * line + 1])
+    row = np.concatenate([row, row])
+    val = np.concatenate([val, -val])
+    order = np.lexsort((row, col))
+    col, row, val = col[order], row[order], val[order]
+    starts = np.searchsorted(col, np.arange(2 * k))
     cost = np.empty(2 * k)
     cost[0::2] = cand.cost_plus[idx] - g[idx]
     cost[1::2] = cand.cost_minus[idx] + g[idx]
-    indices = np.repeat(rows, 2, axis=0)
-    values = np.repeat(vals, 2, axis=0)
-    values[1::2] *= -1.0
-    # Drop exact zeros (e.g. f of a vertical line) to keep the matrix clean.
-    nz = values != 0.0
-    counts = nz.sum(1)
-    starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
-    return cost, starts.astype(np.int32), indices[nz].astype(np.int32), values[nz]
+    return cost, starts.astype(np.int32), row.astype(np.int32), val
 
 
 def _highs() -> highspy.Highs:
@@ -81,7 +91,7 @@ def _highs() -> highspy.Highs:
     return h
 
 
-def _new_model(n_nodes, ipm):
+def _new_model(n_nodes, ipm, n_extra=0):
     h = _highs()
     h.setOptionValue("output_flag", False)
     h.setOptionValue("primal_feasibility_tolerance", 1e-9)
@@ -94,16 +104,16 @@ def _new_model(n_nodes, ipm):
         # primal simplex 30 s).
         h.setOptionValue("solver", "ipm")
         h.setOptionValue("run_crossover", "off")
-    nrow = 2 * n_nodes + 1
+    nrow = 2 * n_nodes + 1 + n_extra
     lower = np.zeros(nrow)
     upper = np.zeros(nrow)
-    lower[-1] = upper[-1] = 1.0
+    lower[2 * n_nodes] = upper[2 * n_nodes] = 1.0
     h.addRows(nrow, lower, upper, 0, np.zeros(0, np.int32), np.zeros(0, np.int32), np.zeros(0))
     return h
 
 
-def _add(h, cand, f, g, idx, n_nodes):
-    cost, starts, indices, values = _columns(cand, f, g, idx, n_nodes)
+def _add(h, cand, f, g, idx, n_nodes, extra):
+    cost, starts, indices, values = _columns(cand, f, g, idx, n_nodes, extra)
     k = 2 * len(idx)
     h.addCols(k, cost, np.zeros(k), np.full(k, highspy.kHighsInf), len(indices), starts, indices, values)
 
@@ -124,10 +134,13 @@ def _run(h):
 
 
 def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
-             batch=None, patience=3, stall=1e-7) -> LPSolution:
+             batch=None, patience=3, stall=1e-7, extra=None) -> LPSolution:
     """Adaptive DLO solve. initial: indices of the lines of the first LP.
-    m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round."""
-    h = _new_model(n_nodes, ipm=True)
+    m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round.
+    extra: optional (c, r) sparse matrix of further equality rows (= 0) per line: the
+    conditions that islands of ground (columns, walls) stay at rest."""
+    n_extra = 0 if extra is None else extra.shape[1]
+    h = _new_model(n_nodes, ipm=True, n_extra=n_extra)
     in_lp = np.zeros(len(cand), bool)
     order = []  # line index of every column pair, in column order
     scale = m_ref * cand.length
@@ -137,7 +150,7 @@ def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
         batch = max(n_nodes, 200)
 
     def add(idx):
-        _add(h, cand, f, g, idx, n_nodes)
+        _add(h, cand, f, g, idx, n_nodes, extra)
         in_lp[idx] = True
         order.extend(idx.tolist())
 
@@ -147,9 +160,11 @@ def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
         sol, obj = _run(h)
         rounds += 1
         y = np.asarray(sol.row_dual)
-        u = y[:-1].reshape(-1, 2)
-        mu = y[-1]
+        u = y[: 2 * n_nodes].reshape(-1, 2)
+        mu = y[2 * n_nodes]
         s = ((u[cand.a] - u[cand.b]) * cand.tangent).sum(1) + mu * f
+        if n_extra:
+            s += extra @ y[2 * n_nodes + 1:]
         rc_plus = cand.cost_plus - g - s
         rc_minus = cand.cost_minus + g + s
         viol = np.maximum(-rc_plus, -rc_minus) / scale
@@ -180,10 +195,10 @@ def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
     support = np.union1d(big, np.asarray(initial))
     theta = np.zeros(len(cand))
     for lines, ipm in ((support, False), (order, False), (order, True)):
-        hv = _new_model(n_nodes, ipm=ipm)
+        hv = _new_model(n_nodes, ipm=ipm, n_extra=n_extra)
         if ipm:
             hv.setOptionValue("run_crossover", "on")
-        _add(hv, cand, f, g, lines, n_nodes)
+        _add(hv, cand, f, g, lines, n_nodes, extra)
         try:
             vsol, vobj = _run(hv)
         except SolverError as err:

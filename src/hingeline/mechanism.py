@@ -26,7 +26,7 @@ import shapely
 from .candidates import INTERIOR, Candidates, crossings, inside_intervals, piece_edges
 from .capacity import capacity_at
 from .errors import SolverError
-from .geometry import CONTINUOUS, SIMPLE, Domain, merge_points, segment_distance
+from .geometry import CONTINUOUS, HOGGING_SUPPORT, SUPPORTED, Domain, merge_points, segment_distance
 from .result import Mechanism, YieldLines
 
 log = logging.getLogger(__name__)
@@ -142,7 +142,7 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
 
 
 def _on_supported(points, domain: Domain) -> np.ndarray:
-    sup = np.isin(domain.edge_kind, (SIMPLE, CONTINUOUS))
+    sup = np.isin(domain.edge_kind, SUPPORTED)
     return (segment_distance(points, domain.edges[sup]) <= 10 * domain.tol).any(axis=1)
 
 
@@ -151,7 +151,7 @@ def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain, mode
 
     Rotations about simply supported edges are not yield lines (nothing yields) and are left out."""
     act = active_lines(theta)
-    act = act[np.isin(cand.kind[act], (INTERIOR, CONTINUOUS))]
+    act = act[np.isin(cand.kind[act], (INTERIOR, *HOGGING_SUPPORT))]
     p, q = nodes[cand.a[act]], nodes[cand.b[act]]
     interior = cand.kind[act] == INTERIOR
     i, t0, t1 = inside_intervals(p[interior], q[interior], piece_edges(domain, model), domain.slab, domain.tol)
@@ -167,7 +167,7 @@ def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain, mode
     m_plus, m_minus = capacity_at(model, mid, cand.normal[line], 10 * domain.tol)
     cap = np.where(th > 0, m_plus, m_minus)
     # Rotation the other way at a continuous edge (uplift) is free: see candidates.py.
-    cap = np.where((cand.kind[line] == CONTINUOUS) & (th > 0), 0.0, cap)
+    cap = np.where(np.isin(cand.kind[line], HOGGING_SUPPORT) & (th > 0), 0.0, cap)
     piece = (tb - ta) * cand.length[line]
     return YieldLines(
         start=p[idx] + ta[:, None] * d,

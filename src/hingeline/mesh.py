@@ -40,7 +40,7 @@ def mesh_size_for(model: Model, resolution: str) -> float:
 
 
 def _linework(domain: Domain, model: Model):
-    lines = [LineString(np.vstack([domain.boundary, domain.boundary[:1]]))]
+    lines = [LineString(np.vstack([r, r[:1]])) for r in domain.rings]
     lines += [LineString(e) for e in domain.edges]
     extra_points = []
     for zone in model.zones:
@@ -77,6 +77,11 @@ def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
     info = triangle.MeshInfo()
     info.set_points(pts.tolist())
     info.set_facets(facets.tolist())
+    # Footprints of columns and walls are ground, outside D: holes of the mesh.
+    holes = [part.representative_point().coords[0] for sp in model.supports
+             for part in getattr(sp.polygon, "geoms", [sp.polygon])]
+    if holes:
+        info.set_holes(holes)
     # Triangle's quality meshes come out finer than the area bound; the factor was set so that
     # the unit square gets about TARGET_NODES nodes (measured: about 150 / 451 / 1068).
     max_area = 0.5 * np.sqrt(3.0) / 4.0 * size**2 * 3.4

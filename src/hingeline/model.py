@@ -126,6 +126,18 @@ class Model:
     analysis: Analysis = field(default_factory=Analysis)
     title: str = ""
     zones: tuple["Zone", ...] = ()
+    supports: tuple["Support", ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class Support:
+    """A column or wall under the slab: its footprint (shapely Polygon, m, clipped to the
+    outline) is rigid ground; connection "monolithic" (hinges round its faces mobilise the
+    hogging capacity) or "pinned" (the slab rotates freely about its faces)."""
+
+    polygon: Polygon
+    connection: str
+    name: str
 
 
 @dataclass(frozen=True, eq=False)
@@ -156,7 +168,10 @@ class Zone:
 
 # Allowed keys of each table. To support a new section, add its keys here and
 # a parser below, and call the parser from parse_model.
-TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone")
+TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall")
+COLUMN_KEYS = ("at", "size", "diameter", "connection", "name")
+WALL_KEYS = ("path", "thickness", "connection", "name")
+CONNECTIONS = ("monolithic", "pinned")
 ZONE_KEYS = ("polygon", "sagging", "hogging", "name")
 SLAB_KEYS = ("outline", "edges", "thickness", "opening")
 OPENING_KEYS = ("polygon",)
@@ -261,7 +276,85 @@ def _parse(data: Any) -> Model:
         analysis = Analysis()
 
     zones = _parse_zones(data.get("zone", []), geo)
-    return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones)
+    supports = _parse_supports(data.get("column", []), data.get("wall", []), geo)
+    if all(e == "free" for e in slab.edges) and not supports:
+        raise _Invalid(
+            "slab.edges: every edge is \"free\", so nothing supports the slab; "
+            "make at least one edge \"simple\" or \"continuous\", or add a [[column]] or [[wall]]"
+        )
+    return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones,
+                 supports=supports)
+
+
+def _parse_supports(columns: Any, walls: Any, geo: "_Geometry") -> tuple["Support", ...]:
+    """Columns and walls under the slab as footprint polygons (m)."""
+    out = []
+    for key, raw in (("column", columns), ("wall", walls)):
+        if isinstance(raw, dict) or not isinstance(raw, (list, tuple)):
+            raise _Invalid(f"{key} must be a list of tables: write each as [[{key}]] (double brackets)")
+        for i, t in enumerate(raw):
+            where = f"{key}[{i + 1}]"
+            if not isinstance(t, dict):
+                raise _Invalid(f"{where} must be a table, got {_show(t)}")
+            _check_keys(t, COLUMN_KEYS if key == "column" else WALL_KEYS, f"[[{key}]] {where}")
+            name = t.get("name", where)
+            if not isinstance(name, str) or not name.strip():
+                raise _Invalid(f"{where}.name must be non-empty text in quotes, got {_show(name)}")
+            connection = t.get("connection", "monolithic")
+            if connection not in CONNECTIONS:
+                raise _Invalid(f"{where}.connection = {_show(connection)}; use one of {_words(CONNECTIONS)}")
+            if key == "column":
+                footprint, centre = _column_footprint(t, where)
+                if not geo.outline.buffer(geo.tol).covers(shapely.Point(centre)):
+                    raise _Invalid(f"{where} at {_pt(centre)} stands outside slab.outline; move it under the slab")
+            else:
+                if "path" not in t:
+                    raise _Invalid(f"{where} has no path; add path = [[x1, y1], [x2, y2], ...] (m)")
+                path = _points(t["path"], f"{where}.path")
+                if len(path) < 2:
+                    raise _Invalid(f"{where}.path needs at least two points")
+                width = _number(t.get("thickness", 0.2), f"{where}.thickness", "m")
+                if width <= 0:
+                    raise _Invalid(f"{where}.thickness = {_fmt(width)} m must be > 0")
+                line = shapely.LineString(path)
+                if not geo.outline.buffer(geo.tol).covers(line):
+                    raise _Invalid(f"{where}.path leaves slab.outline (near {_pt(_where_is(line.difference(geo.outline)))}); "
+                                   "a wall must lie under the slab: trim its path")
+                footprint = line.buffer(width / 2, cap_style="flat", join_style="mitre")
+            for j, op in enumerate(geo.openings):
+                if footprint.intersection(op).area > geo.area_tol:
+                    raise _Invalid(f"{where} lies partly under slab.opening[{j + 1}]; move it or the opening")
+            part = footprint.intersection(geo.outline)
+            if part.area <= geo.area_tol:
+                raise _Invalid(f"{where} does not meet the slab; move it under the slab")
+            out.append(Support(polygon=part, connection=connection, name=name))
+    for a in range(len(out)):
+        for b in range(a + 1, len(out)):
+            if out[a].polygon.intersection(out[b].polygon).area > geo.area_tol:
+                raise _Invalid(f"{out[a].name} and {out[b].name} overlap; supports must stand apart")
+    return tuple(out)
+
+
+def _column_footprint(t: dict, where: str):
+    if "at" not in t:
+        raise _Invalid(f"{where} has no at; add at = [x, y] (m), the column's centre")
+    centre = _points([t["at"]], f"{where}.at")[0]
+    if ("size" in t) == ("diameter" in t):
+        raise _Invalid(f"{where}: give either size = [bx, by] (m, rectangular) or diameter = <m> (round)")
+    if "size" in t:
+        size = _points([t["size"]], f"{where}.size")[0]
+        if min(size) <= 0:
+            raise _Invalid(f"{where}.size must be two lengths > 0 (m)")
+        bx, by = size / 2
+        poly = shapely.box(centre[0] - bx, centre[1] - by, centre[0] + bx, centre[1] + by)
+    else:
+        dia = _number(t["diameter"], f"{where}.diameter", "m")
+        if dia <= 0:
+            raise _Invalid(f"{where}.diameter must be > 0 (m)")
+        # Inscribed 16-gon: a slightly smaller support is the safe side for an upper bound.
+        ang = np.arange(16) * 2 * np.pi / 16
+        poly = Polygon(np.c_[centre[0] + dia / 2 * np.cos(ang), centre[1] + dia / 2 * np.sin(ang)])
+    return poly, centre
 
 
 def _parse_zones(raw: Any, geo: "_Geometry") -> tuple[Zone, ...]:
@@ -359,12 +452,6 @@ def _parse_slab(t: dict) -> tuple[Slab, _Geometry]:
             f"slab.edges must be a list of words or one word, got {_show(edges_raw)}; "
             f"use words from {_words(EDGE_KINDS)}"
         )
-    if all(e == "free" for e in edges_user):
-        raise _Invalid(
-            "slab.edges: every edge is \"free\", so nothing supports the slab; "
-            "make at least one edge \"simple\" or \"continuous\""
-        )
-
     outline, order = _ccw(outline_user)
     edges = tuple(edges_user[k] for k in order)
 

@@ -106,21 +106,32 @@ def _model_to_dict(result: Result) -> dict:
             "hogging": [_float(m) for m in cap.hogging],
             "bar_angle": _float(cap.bar_angle),
         },
-        "loads": [
-            {
-                "type": "area",
-                "name": load.name,
-                "value": _float(load.value),
-                "region": None if load.region is None else _floats(load.region),
-                "factored": bool(load.factored),
-            }
-            for load in model.loads
+        "loads": [_load_to_dict(load) for load in model.loads],
+        "zones": [
+            {"name": z.name, "polygon": _floats(z.polygon), "sagging": [_float(m) for m in z.sagging],
+             "hogging": [_float(m) for m in z.hogging]}
+            for z in model.zones
+        ],
+        "supports": [
+            {"name": sp.name, "connection": sp.connection,
+             "polygons": [_floats(np.asarray(part.exterior.coords)[:-1])
+                          for part in getattr(sp.polygon, "geoms", [sp.polygon])]}
+            for sp in model.supports
         ],
         "analysis": {
             "resolution": model.analysis.resolution,
             "mesh_size": None if model.analysis.mesh_size is None else _float(model.analysis.mesh_size),
         },
     }
+
+
+def _load_to_dict(load) -> dict:
+    common = {"name": load.name, "value": _float(load.value), "factored": bool(load.factored)}
+    if hasattr(load, "at"):
+        return {"type": "point", **common, "at": [_float(c) for c in load.at]}
+    if hasattr(load, "path"):
+        return {"type": "line", **common, "path": _floats(load.path)}
+    return {"type": "area", **common, "region": None if load.region is None else _floats(load.region)}
 
 
 def _yield_lines_to_list(result: Result) -> list[dict]:

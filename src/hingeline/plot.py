@@ -187,6 +187,15 @@ def _draw_openings(ax: Axes, openings: tuple[np.ndarray, ...]) -> None:
                                          linestyles=(0, (4, 2.5)), zorder=4, label="_opening_edge"))
 
 
+def _draw_supports(ax: Axes, model) -> None:
+    """Columns and walls: solid dark footprints; monolithic ones with a white cross-hatch."""
+    for sp in model.supports:
+        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+            ax.add_patch(Polygon(np.asarray(part.exterior.coords), closed=True, facecolor="0.2",
+                                 edgecolor=EDGE_COLOUR, hatch="++" if sp.connection == "monolithic" else None,
+                                 linewidth=0.8, zorder=5, label="_support"))
+
+
 def _line_widths(rotation: np.ndarray, r_max: float) -> np.ndarray:
     if r_max <= 0:
         return np.full(len(rotation), MIN_LINE_WIDTH)
@@ -252,6 +261,11 @@ def _legend_handles(result: Result) -> list:
                               label="free edge"))
     if result.model.slab.openings:
         handles.append(Patch(facecolor="white", edgecolor="0.55", hatch="xx", label="opening (free edges)"))
+    conns = {sp.connection for sp in result.model.supports}
+    if "pinned" in conns:
+        handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, label="column or wall, pinned"))
+    if "monolithic" in conns:
+        handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, hatch="++", label="column or wall, monolithic"))
     handles.append(Line2D([], [], color="none", label="line weight grows with rotation"))
     return handles
 
@@ -316,6 +330,7 @@ def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
 
     mappable = _draw_deflection(ax, result)
     _draw_openings(ax, slab.openings)
+    _draw_supports(ax, result.model)
     _draw_outline(ax, outline, tuple(slab.edges), size)
     _draw_yield_lines(ax, result)
 
@@ -359,6 +374,7 @@ def plot_deflection(result: Result, ax: Axes | None = None) -> Axes:
         cbar.set_label(W_RATIO_LABEL, fontsize=8)
         cbar.ax.tick_params(labelsize=7)
     _draw_openings(ax, slab.openings)
+    _draw_supports(ax, result.model)
     _draw_outline(ax, outline, tuple(slab.edges), size)
     _set_plan_limits(ax, lo, hi, size)
     ax.set_title(_title(result, "deflected shape of the mechanism, w / w_max"), fontsize=10)

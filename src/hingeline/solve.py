@@ -15,7 +15,7 @@ from .candidates import build_candidates
 from .certificate import check_mechanism
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry import build_domain
-from .loadwork import load_coefficients
+from .loadwork import island_rows, load_coefficients
 from .lp import solve_lp
 from .mechanism import build_mechanism, yield_lines
 from .mesh import mesh_domain, mesh_size_for
@@ -67,7 +67,8 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
 
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
-    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref)
+    extra = island_rows(p, q, domain.islands) if domain.islands else None
+    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, extra=extra)
     lf = sol.objective
     # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).
     lf_scale = m_ref / w_total

@@ -41,6 +41,26 @@ type = "area"
 name = "self weight"
 value = 5.5
 factored = false
+[[load]]
+type = "line"
+name = "partition"
+value = 3.0
+path = [[0.5, 2.5], [2.5, 2.5]]
+factored = false
+[[load]]
+type = "point"
+name = "plant"
+value = 4.0
+at = [4.5, 1.5]
+[[zone]]
+name = "trimmers"
+polygon = [[0.7, 0.7], [2.1, 0.7], [2.1, 1.9], [0.7, 1.9]]
+sagging = 25.0
+[[column]]
+name = "C1"
+at = [1.5, 4.0]
+size = [0.3, 0.3]
+connection = "monolithic"
 [analysis]
 resolution = "coarse"
 """
@@ -73,6 +93,8 @@ def test_real_result_json_validates(schema, document):
     # the document exercises the optional parts the schema describes
     assert document["model"]["openings"] and document["model"]["thickness"] == 0.18
     assert any(not load["factored"] for load in document["model"]["loads"])
+    assert {"area", "line", "point"} == {load["type"] for load in document["model"]["loads"]}
+    assert document["model"]["zones"] and document["model"]["supports"]
     assert {"sagging", "hogging"} == {line["sense"] for line in document["yield_lines"]}
     assert errors(schema, document) == []
 
