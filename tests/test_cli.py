@@ -184,6 +184,7 @@ def fake_solver(monkeypatch):
 
     module = types.ModuleType("hingeline.solve")
     module.solve = solve
+    module.solve_cases = solve  # the stand-in models have no load cases
     monkeypatch.setitem(sys.modules, "hingeline.solve", module)
     return types.SimpleNamespace(calls=calls, behaviour=behaviour)
 

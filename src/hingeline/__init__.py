@@ -13,9 +13,9 @@ from .certificate import check_mechanism
 from .errors import HingelineError, ModelError, SolverError, UnstableSlabError
 from .model import Model, model_from_toml, parse_model, read_model
 from .result import Result
-from .solve import solve
+from .solve import solve, solve_cases
 
 __all__ = [
     "HingelineError", "Model", "ModelError", "Result", "SolverError", "UnstableSlabError",
-    "check_mechanism", "model_from_toml", "parse_model", "read_model", "solve",
+    "check_mechanism", "model_from_toml", "parse_model", "read_model", "solve", "solve_cases",
 ]

@@ -127,6 +127,15 @@ class Model:
     title: str = ""
     zones: tuple["Zone", ...] = ()
     supports: tuple["Support", ...] = ()
+    cases: tuple["LoadCase", ...] = ()
+
+
+@dataclass(frozen=True)
+class LoadCase:
+    """A named selection of the model's loads (by load name), solved on its own."""
+
+    name: str
+    loads: tuple[str, ...]
 
 
 @dataclass(frozen=True, eq=False)
@@ -168,7 +177,8 @@ class Zone:
 
 # Allowed keys of each table. To support a new section, add its keys here and
 # a parser below, and call the parser from parse_model.
-TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall")
+TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall", "case")
+CASE_KEYS = ("name", "loads")
 COLUMN_KEYS = ("at", "size", "diameter", "connection", "name")
 WALL_KEYS = ("path", "thickness", "connection", "name")
 CONNECTIONS = ("monolithic", "pinned")
@@ -184,7 +194,9 @@ LOAD_KEYS = {
     "area": ("type", "value", "region", "factored", "name"),
     "line": ("type", "value", "path", "factored", "name"),
     "point": ("type", "value", "at", "factored", "name"),
+    "self_weight": ("type", "unit_weight", "factored", "name"),
 }
+UNIT_WEIGHT = 25.0  # kN/m^3, reinforced concrete (common practice, no source)
 
 _REL_TOL = 1e-9  # geometric tolerance relative to the outline's bounding-box size
 
@@ -264,7 +276,7 @@ def _parse(data: Any) -> Model:
     _check_keys(cap_t, CAPACITY_KEYS, "[capacity]")
     capacity = _parse_capacity(cap_t, slab.thickness)
 
-    loads = _parse_loads(data.get("load"), geo)
+    loads = _parse_loads(data.get("load"), geo, slab.thickness)
 
     if "analysis" in data:
         an_t = data["analysis"]
@@ -282,8 +294,43 @@ def _parse(data: Any) -> Model:
             "slab.edges: every edge is \"free\", so nothing supports the slab; "
             "make at least one edge \"simple\" or \"continuous\", or add a [[column]] or [[wall]]"
         )
+    cases = _parse_cases(data.get("case", []), loads)
     return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones,
-                 supports=supports)
+                 supports=supports, cases=cases)
+
+
+def _parse_cases(raw: Any, loads) -> tuple[LoadCase, ...]:
+    if isinstance(raw, dict) or not isinstance(raw, (list, tuple)):
+        raise _Invalid("case must be a list of tables: write each load case as [[case]] (double brackets)")
+    by_name = {ld.name: ld for ld in loads}
+    out, seen = [], set()
+    for i, t in enumerate(raw):
+        where = f"case[{i + 1}]"
+        if not isinstance(t, dict):
+            raise _Invalid(f"{where} must be a table, got {_show(t)}")
+        _check_keys(t, CASE_KEYS, f"[[case]] {where}")
+        name = t.get("name", f"case {i + 1}")
+        if not isinstance(name, str) or not name.strip() or name in seen:
+            raise _Invalid(f"{where}.name must be text in quotes, different for every case, got {_show(name)}")
+        seen.add(name)
+        names = t.get("loads")
+        if not isinstance(names, list) or not names or not all(isinstance(n, str) for n in names):
+            raise _Invalid(f"{where} (\"{name}\") needs loads = [\"load name\", ...]: the names of [[load]] tables")
+        for n in names:
+            if n not in by_name:
+                raise _Invalid(f"{where} (\"{name}\") refers to load \"{n}\", which no [[load]] has as its name; "
+                               f"loads are: {_words(by_name)}")
+        if not any(by_name[n].factored for n in names):
+            raise _Invalid(f"{where} (\"{name}\") has no factored load, so nothing for the load factor to scale")
+        out.append(LoadCase(name, tuple(names)))
+    return tuple(out)
+
+
+def model_for_case(model: Model, case: LoadCase) -> Model:
+    """The model with only the loads of `case` (and no cases)."""
+    from dataclasses import replace
+
+    return replace(model, loads=tuple(ld for ld in model.loads if ld.name in case.loads), cases=())
 
 
 def _parse_supports(columns: Any, walls: Any, geo: "_Geometry") -> tuple["Support", ...]:
@@ -574,7 +621,7 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
                     bars=tuple(bars), materials=mat)
 
 
-def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:
+def _parse_loads(raw: Any, geo: _Geometry, thickness: float | None = None) -> tuple[AreaLoad, ...]:
     hint = 'add at least one [[load]] table, e.g. type = "area" and value = <kPa>'
     if raw is None:
         raise _Invalid(f"no [[load]] given; {hint}")
@@ -599,7 +646,10 @@ def _parse_loads(raw: Any, geo: _Geometry) -> tuple[AreaLoad, ...]:
                 f"available load types: {_words(LOAD_KEYS)}"
             )
         _check_keys(lt, LOAD_KEYS[kind], f"{where} (type \"{kind}\")")
-        load = _LOAD_PARSERS[kind](lt, where, geo, i)
+        if kind == "self_weight":
+            load = _parse_self_weight(lt, where, i, thickness)
+        else:
+            load = _LOAD_PARSERS[kind](lt, where, geo, i)
         if load.name in seen:
             raise _Invalid(
                 f"{where} has the name \"{load.name}\", already used by load[{seen[load.name]}]; "
@@ -641,6 +691,22 @@ def _on_slab(geom, what: str, geo: _Geometry) -> None:
         if op.buffer(-geo.tol).intersects(geom):
             raise _Invalid(f"{what} lies on slab.opening[{j + 1}]; an opening carries no load: move the load "
                            "onto the slab")
+
+
+def _parse_self_weight(t: dict, where: str, index: int, thickness: float | None) -> AreaLoad:
+    """Self-weight as a uniform area load: unit weight (kN/m^3) x slab.thickness (m)."""
+    if thickness is None:
+        raise _Invalid(f"{where} (type \"self_weight\") needs the slab thickness: add thickness = <m> to [slab]")
+    gamma = _number(t.get("unit_weight", UNIT_WEIGHT), f"{where}.unit_weight", "kN/m^3")
+    if gamma <= 0:
+        raise _Invalid(f"{where}.unit_weight = {_fmt(gamma)} kN/m^3 must be > 0")
+    name = t.get("name", "self weight")
+    if not isinstance(name, str) or not name.strip():
+        raise _Invalid(f"{where}.name must be non-empty text in quotes, got {_show(name)}")
+    factored = t.get("factored", True)
+    if not isinstance(factored, bool):
+        raise _Invalid(f"{where}.factored must be true or false (no quotes), got {_show(factored)}")
+    return AreaLoad(value=gamma * thickness, region=None, factored=factored, name=name)
 
 
 def _parse_point_load(t: dict, where: str, geo: _Geometry, index: int) -> PointLoad:

@@ -163,8 +163,9 @@ def result_to_dict(result: Result) -> dict:
     Keys: hingeline_version, title, load_factor, units, yield_lines (list of
     {start, end, rotation, sense, dissipation, at_support}), work {internal,
     factored, held}, mechanism {vertices, triangles, w}, stats (all SolveStats
-    fields), certificate (all CertificateCheck fields), model (the model as solved),
-    warnings, cautions. Floats keep full precision; non-finite floats become None.
+    fields), certificate (all CertificateCheck fields), model (the model as solved:
+    for a model with load cases, the governing case's loads), warnings, cautions,
+    case (governing load case or None), cases (name and load factor of every case). Floats keep full precision; non-finite floats become None.
     See docs/result-format.md.
     """
     mech = result.mechanism
@@ -185,6 +186,8 @@ def result_to_dict(result: Result) -> dict:
         "model": _model_to_dict(result),
         "warnings": [str(w) for w in result.warnings],
         "cautions": list(CAUTIONS),
+        "case": result.case,
+        "cases": [{"name": n, "load_factor": _float(lf)} for n, lf in result.cases],
     }
 
 

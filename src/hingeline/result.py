@@ -105,3 +105,5 @@ class Result:
     stats: SolveStats
     certificate: CertificateCheck
     warnings: tuple[str, ...] = ()
+    case: str | None = None                       # load case of this result, when the model has cases
+    cases: tuple[tuple[str, float], ...] = ()     # (case name, load factor) of every case solved

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import logging
 import time
+from dataclasses import replace
 
 import numpy as np
 import shapely
@@ -19,7 +20,7 @@ from .loadwork import island_rows, load_coefficients
 from .lp import solve_lp
 from .mechanism import build_mechanism, yield_lines
 from .mesh import mesh_domain, mesh_size_for
-from .model import RESOLUTIONS, Model
+from .model import RESOLUTIONS, Model, model_for_case
 from .result import Result, SolveStats, Work
 
 log = logging.getLogger(__name__)
@@ -115,3 +116,18 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
              lf, check.load_factor, mismatch, seconds)
     return Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
                   tuple(warnings))
+
+
+def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None) -> Result:
+    """Solve every load case of `model` (or the model itself when it has none) and return the
+    governing result: the case with the lowest load factor, carrying the table of all cases."""
+    if not model.cases:
+        return solve(model, resolution, mesh_size)
+    results = []
+    for case in model.cases:
+        log.info("load case %s", case.name)
+        results.append((case.name, solve(model_for_case(model, case), resolution, mesh_size)))
+    name, governing = min(results, key=lambda nr: nr[1].load_factor)
+    table = tuple((n, r.load_factor) for n, r in results)
+    # The result keeps the case's own model (its loads), so its certificate re-checks as it is.
+    return replace(governing, case=name, cases=table)

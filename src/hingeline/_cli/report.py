@@ -22,7 +22,10 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     p = lambda *a: print(*a, file=out)  # noqa: E731
     if result.model.title:
         p(result.model.title)
-    p(f"load factor = {result.load_factor:.4f}  (upper bound: collapse factor of the mechanism found)")
+    for name, lf in result.cases:
+        p(f"  case {name!r:30s} load factor {lf:.4f}{'  <- governs' if name == result.case else ''}")
+    governing = f" (load case {result.case!r})" if result.case else ""
+    p(f"load factor = {result.load_factor:.4f}{governing}  (upper bound: collapse factor of the mechanism found)")
     p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
     p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
       f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")

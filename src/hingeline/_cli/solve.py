@@ -51,9 +51,9 @@ def write_files(result: Result, outdir: Path) -> list[Path]:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
-    from ..solve import solve  # imported late: reading the model needs no solver
+    from ..solve import solve_cases  # imported late: reading the model needs no solver
 
-    result = solve(model, resolution=args.resolution, mesh_size=args.mesh_size)
+    result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size)
     paths = write_files(result, args.outdir)
     report.print_summary(result, paths)
     return 0
