@@ -219,6 +219,6 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
     # capacity; the other sense (slab lifting next to the support) is free, as on every support.
     cont = np.flatnonzero(np.isin(kind, HOGGING_SUPPORT))
     _, m_minus = capacity_at(model, 0.5 * (p[cont] + q[cont]), normal[cont], 10 * tol)
-    cost_minus[cont] = m_minus * length[cont]
+    cost_minus[cont] = m_minus * length[cont] * domain.edge_fixity[slab_edge[cont]]
     return Candidates(a, b, length, tangent, normal, slab_length, kind, slab_edge,
                       cost_plus, cost_minus)

@@ -39,17 +39,19 @@ def _gradients(V, T, w):
 
 
 def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
-    """Supported outline edges and faces of columns and walls (s, 2, 2), and whether each
-    mobilises the hogging capacity (continuous edge, monolithic support) (s,)."""
+    """Supported outline edges and faces of columns and walls (s, 2, 2), and the share of the
+    hogging capacity each mobilises (s,): the fixity of a continuous edge, 1 at a monolithic
+    support, 0 where the slab rotates freely."""
     outline = model.slab.outline
+    fixity = model.slab.fixity or (1.0,) * len(outline)
     ks = [k for k, kind in enumerate(model.slab.edges) if kind != "free"]
     edges = [np.array([[outline[k], outline[(k + 1) % len(outline)]] for k in ks]).reshape(-1, 2, 2)]
-    hog = [np.array([model.slab.edges[k] == "continuous" for k in ks], bool)]
+    hog = [np.array([fixity[k] if model.slab.edges[k] == "continuous" else 0.0 for k in ks])]
     for sp in model.supports:
         for part in getattr(sp.polygon, "geoms", [sp.polygon]):
             ring = np.asarray(part.exterior.coords)
             edges.append(np.stack([ring[:-1], ring[1:]], axis=1))
-            hog.append(np.full(len(ring) - 1, sp.connection == "monolithic"))
+            hog.append(np.full(len(ring) - 1, 1.0 if sp.connection == "monolithic" else 0.0))
     return np.concatenate(edges), np.concatenate(hog)
 
 
@@ -119,17 +121,19 @@ def internal_work(model: Model, mech: Mechanism) -> float:
     # Boundary edges: supported ones hinge against the flat ground (w = 0, zero slope).
     idx = np.flatnonzero(single)
     a, b = e[idx, 0], e[idx, 1]
-    sup_edges, continuous = _supported_edges(model)
+    sup_edges, share = _supported_edges(model)
     tol = _tolerance(model)
     on = (segment_distance(V[a], sup_edges) <= tol) & (segment_distance(V[b], sup_edges) <= tol)
-    cont = (on & continuous[None, :]).any(axis=1)
+    factor = (on * share[None, :]).max(axis=1, initial=0.0)
+    cont = factor > 0
     if cont.any():
         a, b, idx = a[cont], b[cont], idx[cont]
         L, mp, mm, n = geometry(a, b)
+        mm = mm * factor[cont]
         side = np.sign(((V[opp[idx]] - V[a]) * n).sum(1))
         nu = n * side[:, None]           # into the slab
         theta = -(g[tri[idx]] * nu).sum(1)
-        # Uplift next to a continuous edge (theta > 0) is taken as free (conservative).
+        # Uplift next to a support (theta > 0) is taken as free (conservative).
         total += np.sum(L * np.where(theta < 0, -mm * theta, 0.0))
     return float(total)
 

@@ -55,6 +55,7 @@ class Domain:
     edges: np.ndarray
     edge_kind: np.ndarray
     edge_label: tuple[str, ...]
+    edge_fixity: np.ndarray     # (e,) share of the hogging capacity mobilised on continuous edges
     margin: float
     scale: float
 
@@ -100,23 +101,27 @@ def build_domain(model: Model, margin: float) -> Domain:
     lo, hi = outline.min(axis=0), outline.max(axis=0)
     scale = float(np.hypot(*(hi - lo)))
 
-    edges, edge_kind, labels = [], [], []
+    edges, edge_kind, labels, fixity = [], [], [], []
     footprint = shapely.union_all([sp.polygon for sp in model.supports]) if model.supports else None
     for sp in model.supports:
         for ring in _rings(sp.polygon):
             edges.append(_closed_edges(ring))
             edge_kind.append(np.full(len(ring), FACE_MONOLITHIC if sp.connection == "monolithic" else FACE_PINNED))
             labels += [sp.name] * len(ring)
+            fixity.append(np.ones(len(ring)))
     edges.append(_closed_edges(outline))
     edge_kind.append(kinds)
+    fixity.append(np.asarray(slab.fixity or (1.0,) * len(outline), float))
     labels += [f"edge {k + 1}" for k in range(len(outline))]
     for j, op in enumerate(slab.openings):
         op = np.asarray(op, float)
         edges.append(_closed_edges(op))
         edge_kind.append(np.full(len(op), OPENING))
+        fixity.append(np.ones(len(op)))
         labels += [f"opening {j + 1}"] * len(op)
     edges = np.concatenate(edges)
     edge_kind = np.concatenate(edge_kind)
+    fixity = np.concatenate(fixity)
 
     if not np.any(kinds == FREE):
         region = outer
@@ -129,7 +134,7 @@ def build_domain(model: Model, margin: float) -> Domain:
         slab_poly = slab_poly.difference(footprint)
         islands = [r for part in getattr(region, "geoms", [region]) for r in _rings(part)[1:]]
     return Domain(tuple(_rings(region)), tuple(islands), slab_poly, region, edges, edge_kind,
-                  tuple(labels), used, scale)
+                  tuple(labels), fixity, used, scale)
 
 
 def _rings(poly) -> list[np.ndarray]:

@@ -165,15 +165,16 @@ def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain, mode
     th = theta[line]
     mid = p[idx] + (0.5 * (ta + tb))[:, None] * d
     m_plus, m_minus = capacity_at(model, mid, cand.normal[line], 10 * domain.tol)
-    cap = np.where(th > 0, m_plus, m_minus)
-    # Rotation the other way at a continuous edge (uplift) is free: see candidates.py.
-    cap = np.where(np.isin(cand.kind[line], HOGGING_SUPPORT) & (th > 0), 0.0, cap)
     piece = (tb - ta) * cand.length[line]
+    work = np.where(th > 0, m_plus, m_minus) * piece * np.abs(th)
+    # Hinges along supports: the line's own cost (fixity included); uplift there is free.
+    support = cand.kind[line] != INTERIOR
+    work[support] = np.where(th[support] < 0, cand.cost_minus[line[support]] * np.abs(th[support]), 0.0)
     return YieldLines(
         start=p[idx] + ta[:, None] * d,
         end=p[idx] + tb[:, None] * d,
         rotation=np.abs(th),
         sagging=th > 0,
-        dissipation=cap * piece * np.abs(th),
+        dissipation=work,
         at_support=cand.kind[line] != INTERIOR,
     )

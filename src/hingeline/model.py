@@ -43,6 +43,8 @@ class Slab:
     edges: tuple[str, ...]
     openings: tuple[np.ndarray, ...] = ()
     thickness: float | None = None
+    fixity: tuple[float, ...] = ()   # per edge, fraction of the hogging capacity mobilised on
+                                     # continuous edges (1.0 each when empty)
 
 
 @dataclass(frozen=True, eq=False)
@@ -487,20 +489,17 @@ def _parse_slab(t: dict) -> tuple[Slab, _Geometry]:
                 f"expected {n}, got {len(edges_raw)}; give one word per edge "
                 "(edge k runs from vertex k to vertex k+1) or a single word for all edges"
             )
-        for k, word in enumerate(edges_raw):
-            if not isinstance(word, str) or word not in EDGE_KINDS:
-                raise _Invalid(
-                    f"slab.edges[{k + 1}] = {_show(word)} for {_edge_label(outline_user, k)} "
-                    f"is not an edge condition; use one of {_words(EDGE_KINDS)}"
-                )
-        edges_user = list(edges_raw)
+        outline_user, edges_user, fixity_user = _expand_edges(outline_user, list(edges_raw), tol)
     else:
         raise _Invalid(
             f"slab.edges must be a list of words or one word, got {_show(edges_raw)}; "
             f"use words from {_words(EDGE_KINDS)}"
         )
+    if isinstance(edges_raw, str):
+        fixity_user = [1.0] * n
     outline, order = _ccw(outline_user)
     edges = tuple(edges_user[k] for k in order)
+    fixity = tuple(float(fixity_user[k]) for k in order)
 
     thickness = None
     if "thickness" in t:
@@ -542,8 +541,73 @@ def _parse_slab(t: dict) -> tuple[Slab, _Geometry]:
         edges=edges,
         openings=tuple(_frozen(o) for o in openings),
         thickness=thickness,
+        fixity=fixity,
     )
     return slab, _Geometry(outline_poly, opening_polys, tol)
+
+
+def _edge_kind_and_fixity(t: Any, where: str) -> tuple[str, float]:
+    """A word, or a table {type = "continuous", fixity = f} (0 <= f <= 1)."""
+    if isinstance(t, str):
+        if t not in EDGE_KINDS:
+            raise _Invalid(f"{where} = {_show(t)} is not an edge condition; use one of {_words(EDGE_KINDS)}")
+        return t, 1.0
+    if not isinstance(t, dict):
+        raise _Invalid(f"{where} must be a word ({_words(EDGE_KINDS)}) or a table, got {_show(t)}")
+    _check_keys(t, ("type", "fixity"), where)
+    kind, fixity = _edge_kind_and_fixity(t.get("type"), f"{where}.type")[0], 1.0
+    if "fixity" in t:
+        fixity = _number(t["fixity"], f"{where}.fixity", "")
+        if kind != "continuous" or not 0.0 <= fixity <= 1.0:
+            raise _Invalid(f"{where}.fixity = {_fmt(fixity)}: a fixity (fraction of the hogging capacity "
+                           "mobilised, 0 to 1) belongs to a \"continuous\" edge")
+    return kind, fixity
+
+
+def _expand_edges(outline: np.ndarray, entries: list, tol: float):
+    """Outline with extra vertices where an edge is split into runs, its edge words and
+    fixities. An entry is a word, {type, fixity}, or {runs = [{type, fixity, to}, ...]} with
+    `to` the distance (m) from the edge's first vertex where each run but the last ends."""
+    pts, kinds, fix = [], [], []
+    n = len(outline)
+    for k, entry in enumerate(entries):
+        a, b = outline[k], outline[(k + 1) % n]
+        where = f"slab.edges[{k + 1}] ({_edge_label(outline, k)})"
+        pts.append(a)
+        if not (isinstance(entry, dict) and "runs" in entry):
+            kind, f = _edge_kind_and_fixity(entry, where)
+            kinds.append(kind)
+            fix.append(f)
+            continue
+        _check_keys(entry, ("runs",), where)
+        runs = entry["runs"]
+        if not isinstance(runs, list) or len(runs) < 2:
+            raise _Invalid(f"{where}.runs must list at least two runs, e.g. [{{type = \"free\", to = 2.0}}, "
+                           "{type = \"simple\"}]")
+        length = float(np.hypot(*(b - a)))
+        last = 0.0
+        for j, run in enumerate(runs):
+            rwhere = f"{where}.runs[{j + 1}]"
+            if not isinstance(run, dict):
+                raise _Invalid(f"{rwhere} must be a table {{type = ..., to = <m>}}")
+            _check_keys(run, ("type", "fixity", "to"), rwhere)
+            kind, f = _edge_kind_and_fixity({k2: v for k2, v in run.items() if k2 != "to"}, rwhere)
+            kinds.append(kind)
+            fix.append(f)
+            if j == len(runs) - 1:
+                if "to" in run:
+                    raise _Invalid(f"{rwhere}: the last run goes to the end of the edge; leave out to")
+                break
+            if "to" not in run:
+                raise _Invalid(f"{rwhere} has no to; give the distance (m) from the edge's first vertex "
+                               "where this run ends")
+            to = _number(run["to"], f"{rwhere}.to", "m")
+            if not last + tol < to < length - tol:
+                raise _Invalid(f"{rwhere}.to = {_fmt(to)} m must lie between {_fmt(last)} and the edge length "
+                               f"{_fmt(length)} m, increasing from run to run")
+            last = to
+            pts.append(a + (b - a) * (to / length))
+    return np.array(pts), kinds, fix
 
 
 def _parse_capacity(t: dict, thickness: float | None) -> Capacity:

@@ -98,3 +98,47 @@ def test_wall_across_the_slab_makes_two_spans():
 def test_bad_supports_name_the_item(support, item):
     with pytest.raises(hingeline.ModelError, match=item):
         hingeline.model_from_toml(INTERIOR.format(support=support))
+
+
+RUNS = """
+[slab]
+outline = [[0, 0], [4, 0], [4, 4], [0, 4]]
+edges = {edges}
+[capacity]
+sagging = 1.0
+hogging = 1.0
+[[load]]
+type = "area"
+value = 1.0
+[analysis]
+resolution = "coarse"
+"""
+
+
+def test_edge_runs_equal_added_vertices():
+    # Splitting an edge into runs is the same model as adding the vertices by hand (definition).
+    runs = hingeline.solve(hingeline.model_from_toml(RUNS.format(
+        edges='["simple", "simple", {runs = [{type = "free", to = 1.5}, {type = "simple"}]}, "simple"]')))
+    by_hand = hingeline.solve(hingeline.model_from_toml(RUNS.format(edges='["simple", "simple", "free", "simple", "simple"]')
+                                                        .replace("[4, 4], [0, 4]]", "[4, 4], [2.5, 4], [0, 4]]")))
+    assert runs.load_factor == pytest.approx(by_hand.load_factor, rel=1e-9)
+    assert runs.certificate.load_factor == pytest.approx(runs.load_factor, rel=1e-6)
+
+
+def test_partial_fixity_lies_between_simple_and_continuous():
+    # Solver.md section 5: continuous edges with m' = m give exactly twice the simply supported
+    # load factor with m' = 0 (24 -> 48 m/L^2 scale for the square); a fixity f mobilises f m' on
+    # the edges, so the load factor lies between the simple and the fully fixed values, and f = 0
+    # is the simple edge.
+    fixed = hingeline.solve(hingeline.model_from_toml(RUNS.format(edges='"continuous"')))
+    half = hingeline.solve(hingeline.model_from_toml(RUNS.format(
+        edges='[{type = "continuous", fixity = 0.5}, {type = "continuous", fixity = 0.5}, '
+              '{type = "continuous", fixity = 0.5}, {type = "continuous", fixity = 0.5}]')))
+    zero = hingeline.solve(hingeline.model_from_toml(RUNS.format(
+        edges='[{type = "continuous", fixity = 0.0}, "simple", "simple", "simple"]')))
+    simple = hingeline.solve(hingeline.model_from_toml(RUNS.format(edges='"simple"')))
+    assert simple.load_factor < half.load_factor < fixed.load_factor
+    assert zero.load_factor == pytest.approx(simple.load_factor, rel=1e-9)
+    assert half.certificate.load_factor == pytest.approx(half.load_factor, rel=1e-6)
+    with pytest.raises(hingeline.ModelError, match="fixity"):
+        hingeline.model_from_toml(RUNS.format(edges='[{type = "simple", fixity = 0.5}, "simple", "simple", "simple"]'))
