@@ -94,6 +94,7 @@ def energy_balance(model: Model, result: Result) -> dict:
     factored, work); factored, held (sums of work_per_load); load_factor;
     external (held + load_factor * factored); residual (internal - external).
     """
+    model = result.model  # with load cases: the governing case's own loads
     yl = result.yield_lines
     sag = np.asarray(yl.sagging, bool)
     sup = np.asarray(yl.at_support, bool)
@@ -101,12 +102,13 @@ def energy_balance(model: Model, result: Result) -> dict:
     groups = [
         ("sagging yield lines (bottom bars)", sag & ~sup),
         ("hogging yield lines (top bars)", ~sag & ~sup),
-        ("hinges along continuous edges (top bars)", sup),
+        ("hinges along continuous edges and monolithic supports (top bars)", sup),
     ]
     groups = [(label, int(m.sum()), float(dis[m].sum())) for label, m in groups]
     works = work_per_load(model, result.mechanism)
     loads = [{"name": ld.name, "value": float(ld.value), "factored": bool(ld.factored),
-              "region": ld.region is not None, "work": float(w)} for ld, w in zip(model.loads, works)]
+              "region": getattr(ld, "region", None) is not None, "work": float(w)}
+             for ld, w in zip(model.loads, works)]
     factored = sum(d["work"] for d in loads if d["factored"])
     held = sum(d["work"] for d in loads if not d["factored"])
     lf = float(result.load_factor)
@@ -249,14 +251,34 @@ def _model_section(model: Model) -> str:
     out.append(f"<p>Bar direction 1 is at {c.bar_angle:.2f}° from the x axis; direction 2 is 90° further. "
                "Capacity normal to a line follows Johansen's stepped criterion.</p>")
 
-    out.append("<h3>Loads</h3><table><tr><th>name</th><th>kPa</th><th>acts on</th><th>treatment</th></tr>")
+    out.append("<h3>Loads</h3><table><tr><th>name</th><th>value</th><th>acts on</th><th>treatment</th></tr>")
     for ld in model.loads:
-        where = ("whole slab" if ld.region is None
-                 else "region " + ", ".join(_xy(p) for p in ld.region))
+        if hasattr(ld, "at"):
+            where, unit = "point " + _xy(ld.at), "kN"
+        elif hasattr(ld, "path"):
+            where, unit = "line " + ", ".join(_xy(p) for p in ld.path), "kN/m"
+        else:
+            where = "whole slab" if ld.region is None else "region " + ", ".join(_xy(p) for p in ld.region)
+            unit = "kPa"
         kind = "factored (multiplied by the load factor)" if ld.factored else "held (present at this value)"
-        out.append(f"<tr><td>{_e(ld.name)}</td><td class=\"num\">{ld.value:.3f}</td><td>{_e(where)}</td>"
+        out.append(f"<tr><td>{_e(ld.name)}</td><td class=\"num\">{ld.value:.3f} {unit}</td><td>{_e(where)}</td>"
                    f"<td>{kind}</td></tr>")
     out.append("</table>")
+    if model.supports:
+        out.append("<h3>Columns and walls</h3><table><tr><th>name</th><th>connection</th><th>footprint</th></tr>")
+        for sp in model.supports:
+            ring = np.asarray(sp.polygon.exterior.coords)[:-1] if hasattr(sp.polygon, "exterior") else []
+            out.append(f"<tr><td>{_e(sp.name)}</td><td>{_e(sp.connection)}</td>"
+                       f"<td>{_e(', '.join(_xy(p) for p in ring))}</td></tr>")
+        out.append("</table>")
+    if model.zones:
+        out.append("<h3>Reinforcement zones</h3><table><tr><th>name</th><th>sagging kNm/m</th>"
+                   "<th>hogging kNm/m</th><th>polygon</th></tr>")
+        for z in model.zones:
+            out.append(f"<tr><td>{_e(z.name)}</td><td class=\"num\">{z.sagging[0]:.3f} / {z.sagging[1]:.3f}</td>"
+                       f"<td class=\"num\">{z.hogging[0]:.3f} / {z.hogging[1]:.3f}</td>"
+                       f"<td>{_e(', '.join(_xy(p) for p in z.polygon))}</td></tr>")
+        out.append("</table>")
     return "\n".join(out)
 
 
@@ -330,6 +352,11 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
                 if lf < 1 else "A value of 1 or more means the factored loads are carried, with that margin, "
                 "as far as flexure is concerned, if no mechanism with a lower factor exists.")
              + "</p>")
+    if res.case:
+        p.append(f"<p>Load cases solved (the lowest governs; the record below is for "
+                 f"<b>{_e(res.case)}</b>):</p><table><tr><th>case</th><th>load factor</th></tr>"
+                 + "".join(f"<tr><td>{_e(n)}</td><td class=\"num\">{v:.4f}</td></tr>" for n, v in res.cases)
+                 + "</table>")
     better = [r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary]
     if better:
         b = min(better, key=lambda r: r["load_factor"])
@@ -427,7 +454,7 @@ def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
     reported in full (default: the model's; when the model sets analysis.mesh_size
     and no primary is given, that mesh size is solved too and is primary).
     """
-    from .solve import solve
+    from .solve import solve_cases
 
     plan: dict[str, tuple[str | None, float | None]] = {}
     if primary is None and model.analysis.mesh_size is not None:
@@ -445,7 +472,7 @@ def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
     for label in _ordered(plan):
         res, size = plan[label]
         log.info("report: solving at %s", label)
-        results[label] = solve(model, resolution=res, mesh_size=size)
+        results[label] = solve_cases(model, resolution=res, mesh_size=size)
     return results, primary
 
 

@@ -77,3 +77,10 @@ def test_cli_prints_the_case_table(tmp_path, capsys):
     assert main(["solve", str(path), "-o", str(tmp_path / "out")]) == 0
     out = capsys.readouterr().out
     assert "'left bay only'" in out and "governs" in out
+
+
+def test_report_names_every_case(tmp_path):
+    from hingeline.report import write_report
+
+    page = write_report(hingeline.model_from_toml(MODEL), tmp_path, resolutions=["coarse"]).read_text()
+    assert "both bays" in page and "left bay only" in page
