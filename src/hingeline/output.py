@@ -105,6 +105,11 @@ def _model_to_dict(result: Result) -> dict:
             "sagging": [_float(m) for m in cap.sagging],
             "hogging": [_float(m) for m in cap.hogging],
             "bar_angle": _float(cap.bar_angle),
+            "layers": [
+                {"name": lc.name, "area": _float(lc.area), "d": _float(lc.d), "x": _float(lc.x),
+                 "xu_d": _float(lc.xu_d), "moment": _float(lc.moment)}
+                for lc in cap.layers
+            ],
         },
         "loads": [_load_to_dict(load) for load in model.loads],
         "zones": [

@@ -248,6 +248,15 @@ def _model_section(model: Model) -> str:
                f"<td class=\"num\">{c.sagging[1]:.3f}</td></tr>")
     out.append(f"<tr><th>hogging (top bars)</th><td class=\"num\">{c.hogging[0]:.3f}</td>"
                f"<td class=\"num\">{c.hogging[1]:.3f}</td></tr></table>")
+    if c.layers:
+        out.append("<p>Capacities from the bar schedule, each layer a singly reinforced section 1 m wide "
+                   "(EN 1992-1-1, rectangular stress block):</p><table><tr><th>layer</th><th>A_s mm²/m</th>"
+                   "<th>d mm</th><th>x mm</th><th>x_u/d</th><th>M_Rd kNm/m</th></tr>")
+        for lc in c.layers:
+            out.append(f"<tr><td>{_e(lc.name)}</td><td class=\"num\">{lc.area:.0f}</td><td class=\"num\">{lc.d:.1f}</td>"
+                       f"<td class=\"num\">{lc.x:.1f}</td><td class=\"num\">{lc.xu_d:.3f}</td>"
+                       f"<td class=\"num\">{lc.moment:.2f}</td></tr>")
+        out.append("</table>")
     out.append(f"<p>Bar direction 1 is at {c.bar_angle:.2f}° from the x axis; direction 2 is 90° further. "
                "Capacity normal to a line follows Johansen's stepped criterion.</p>")
 

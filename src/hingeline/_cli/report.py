@@ -33,6 +33,9 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     verdict = "agrees" if certificate_agrees(result) else "DOES NOT AGREE - do not use this result"
     p(f"  certificate load factor re-checked from the mechanism = {chk.load_factor:.6g} ({verdict}); "
       f"largest |w| on supports {chk.max_support_w:.1e}")
+    for lc in result.model.capacity.layers:
+        p(f"  bars        {lc.name}: {lc.area:.0f} mm2/m, d = {lc.d:.0f} mm, x_u/d = {lc.xu_d:.3f}, "
+          f"M_Rd = {lc.moment:.2f} kNm/m (EN 1992-1-1)")
     for w in result.warnings:
         p(f"  warning     {w}")
     p("  caution     upper-bound method; shear/punching, deflection, ductility and detailing not checked; "
