@@ -196,6 +196,33 @@ def _draw_supports(ax: Axes, model) -> None:
                                  linewidth=0.8, zorder=5, label="_support"))
 
 
+def _draw_zones(ax: Axes, model) -> None:
+    """Reinforcement zones: a thin dash-dot-dot outline with the zone's name."""
+    for z in model.zones:
+        ring = np.vstack([z.polygon, z.polygon[:1]])
+        ax.plot(ring[:, 0], ring[:, 1], linestyle=(0, (6, 2, 1, 2, 1, 2)), linewidth=0.9, color="0.25",
+                zorder=6, label="_zone")
+        c = np.asarray(z.polygon, float).mean(axis=0)
+        ax.text(c[0], c[1], z.name, fontsize=6, color="0.25", ha="center", va="center", zorder=6)
+
+
+def _draw_loads(ax: Axes, model) -> None:
+    """Load patches (dotted outline, light stipple), line loads (dotted with arrows' stems) and
+    point loads (a downward triangle): where the loads act, read in black and white."""
+    for ld in model.loads:
+        if hasattr(ld, "at"):
+            ax.plot([ld.at[0]], [ld.at[1]], marker="v", markersize=8, color=EDGE_COLOUR, zorder=7,
+                    label="_point_load")
+        elif hasattr(ld, "path"):
+            path = np.asarray(ld.path, float)
+            ax.plot(path[:, 0], path[:, 1], linestyle=":", linewidth=2.0, color=EDGE_COLOUR, zorder=7,
+                    label="_line_load")
+        elif ld.region is not None:
+            ax.add_patch(Polygon(np.asarray(ld.region, float), closed=True, facecolor="none",
+                                 edgecolor="0.35", hatch="..", linestyle=":", linewidth=0.8, zorder=2,
+                                 label="_load_patch"))
+
+
 def _line_widths(rotation: np.ndarray, r_max: float) -> np.ndarray:
     if r_max <= 0:
         return np.full(len(rotation), MIN_LINE_WIDTH)
@@ -261,6 +288,16 @@ def _legend_handles(result: Result) -> list:
                               label="free edge"))
     if result.model.slab.openings:
         handles.append(Patch(facecolor="white", edgecolor="0.55", hatch="xx", label="opening (free edges)"))
+    loads = result.model.loads
+    if any(getattr(ld, "region", None) is not None for ld in loads):
+        handles.append(Patch(facecolor="none", edgecolor="0.35", hatch="..", linestyle=":", label="load patch"))
+    if any(hasattr(ld, "path") for ld in loads):
+        handles.append(Line2D([], [], linestyle=":", linewidth=2.0, color=EDGE_COLOUR, label="line load"))
+    if any(hasattr(ld, "at") for ld in loads):
+        handles.append(Line2D([], [], linestyle="none", marker="v", color=EDGE_COLOUR, label="point load"))
+    if result.model.zones:
+        handles.append(Line2D([], [], linestyle=(0, (6, 2, 1, 2, 1, 2)), linewidth=0.9, color="0.25",
+                              label="reinforcement zone"))
     conns = {sp.connection for sp in result.model.supports}
     if "pinned" in conns:
         handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, label="column or wall, pinned"))
@@ -331,6 +368,8 @@ def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
     mappable = _draw_deflection(ax, result)
     _draw_openings(ax, slab.openings)
     _draw_supports(ax, result.model)
+    _draw_zones(ax, result.model)
+    _draw_loads(ax, result.model)
     _draw_outline(ax, outline, tuple(slab.edges), size)
     _draw_yield_lines(ax, result)
 

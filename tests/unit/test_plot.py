@@ -141,3 +141,42 @@ def test_plot_deflection_3d_uses_given_3d_axes_and_rejects_2d(result):
     ax2 = fig.add_subplot(1, 2, 2)
     with pytest.raises(ValueError, match="3-D"):
         plot_deflection_3d(result, ax=ax2)
+
+
+def test_plan_draws_supports_zones_and_loads():
+    # Columns and walls, zones, patches, line and point loads each leave their own artist.
+    from hingeline import model_from_toml, solve
+    from hingeline.plot import plot_pattern
+
+    r = solve(model_from_toml("""
+[slab]
+outline = [[0, 0], [5, 0], [5, 4], [0, 4]]
+edges = "simple"
+[[column]]
+at = [2.5, 2.0]
+size = [0.3, 0.3]
+[[zone]]
+name = "band"
+polygon = [[2.0, 0.0], [3.0, 0.0], [3.0, 4.0], [2.0, 4.0]]
+sagging = 20.0
+[capacity]
+sagging = 10.0
+[[load]]
+type = "area"
+value = 2.0
+region = [[0.5, 0.5], [1.5, 0.5], [1.5, 1.5], [0.5, 1.5]]
+[[load]]
+type = "line"
+value = 3.0
+path = [[3.5, 1.0], [4.5, 3.0]]
+[[load]]
+type = "point"
+value = 5.0
+at = [1.0, 3.0]
+[analysis]
+resolution = "coarse"
+"""))
+    ax = plot_pattern(r)
+    labels = {a.get_label() for a in [*ax.patches, *ax.lines]}
+    assert {"_support", "_zone", "_load_patch", "_line_load", "_point_load"} <= labels
+    assert "band" in {t.get_text() for t in ax.texts}
