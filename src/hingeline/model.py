@@ -296,6 +296,11 @@ def _parse(data: Any) -> Model:
             "slab.edges: every edge is \"free\", so nothing supports the slab; "
             "make at least one edge \"simple\" or \"continuous\", or add a [[column]] or [[wall]]"
         )
+    for i, ld in enumerate(loads):
+        for sp in supports:
+            if hasattr(ld, "at") and sp.polygon.buffer(-geo.tol).contains(shapely.Point(ld.at)):
+                raise _Invalid(f"load[{i + 1}] (\"{ld.name}\") stands on {sp.name}: it goes straight into the "
+                               "support and does no work on the slab; move it onto the slab or leave it out")
     cases = _parse_cases(data.get("case", []), loads)
     return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones,
                  supports=supports, cases=cases)

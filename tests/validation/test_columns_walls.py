@@ -142,3 +142,9 @@ def test_partial_fixity_lies_between_simple_and_continuous():
     assert half.certificate.load_factor == pytest.approx(half.load_factor, rel=1e-6)
     with pytest.raises(hingeline.ModelError, match="fixity"):
         hingeline.model_from_toml(RUNS.format(edges='[{type = "simple", fixity = 0.5}, "simple", "simple", "simple"]'))
+
+
+def test_point_load_on_a_column_is_refused():
+    support = '[[column]]\nat = [3.0, 2.0]\nsize = [0.4, 0.4]\n[[load]]\ntype = "point"\nvalue = 5.0\nat = [3.0, 2.0]'
+    with pytest.raises(hingeline.ModelError, match="stands on column\\[1\\]"):
+        hingeline.model_from_toml(INTERIOR.format(support=support))
