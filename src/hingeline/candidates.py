@@ -116,15 +116,11 @@ def crossings(p: np.ndarray, q: np.ndarray, edges: np.ndarray, tol: float):
     return np.concatenate(out_i), np.concatenate(out_t), np.concatenate(out_e)
 
 
-def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, tol: float):
-    """Pieces of segments p->q lying inside `polygon`; `edges` holds at least the polygon's
-    boundary (further edges only split the pieces further, e.g. at zone boundaries).
-
-    Returns (line index, t0, t1) for every inside piece (parameters along p->q).
-    """
+def split_pieces(p: np.ndarray, q: np.ndarray, edges: np.ndarray, tol: float):
+    """Segments p->q cut where they cross `edges`: (line index, t0, t1) of every piece,
+    in order along each line (parameters along p->q)."""
     i, t, _ = crossings(p, q, edges, tol)
     c = len(p)
-    # Breakpoints 0, crossings..., 1 per line, sorted.
     li = np.concatenate([np.arange(c), i, np.arange(c)])
     lt = np.concatenate([np.zeros(c), t, np.ones(c)])
     order = np.lexsort((lt, li))
@@ -132,7 +128,16 @@ def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, t
     same = li[1:] == li[:-1]
     i0, t0, t1 = li[:-1][same], lt[:-1][same], lt[1:][same]
     keep = t1 > t0
-    i0, t0, t1 = i0[keep], t0[keep], t1[keep]
+    return i0[keep], t0[keep], t1[keep]
+
+
+def inside_intervals(p: np.ndarray, q: np.ndarray, edges: np.ndarray, polygon, tol: float):
+    """Pieces of segments p->q lying inside `polygon`; `edges` holds at least the polygon's
+    boundary (further edges only split the pieces further, e.g. at zone boundaries).
+
+    Returns (line index, t0, t1) for every inside piece (parameters along p->q).
+    """
+    i0, t0, t1 = split_pieces(p, q, edges, tol)
     mid = p[i0] + 0.5 * (t0 + t1)[:, None] * (q[i0] - p[i0])
     inside = shapely.contains_xy(polygon, mid[:, 0], mid[:, 1])
     return i0[inside], t0[inside], t1[inside]

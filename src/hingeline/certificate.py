@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 import shapely
 
-from .candidates import crossings
+from .candidates import crossings, split_pieces
 from .capacity import capacity_at
 from .errors import SolverError
 from .geometry import segment_distance
@@ -95,14 +95,8 @@ def internal_work(model: Model, mech: Mechanism) -> float:
         L = np.hypot(t[:, 0], t[:, 1])
         n = np.stack([-t[:, 1], t[:, 0]], axis=1) / L[:, None]
         # Split edges where they cross a zone boundary; price each piece at its midpoint.
-        i, tc, _ = crossings(V[a], V[b], _zone_edges(model), _tolerance(model))
+        e, t0, t1 = split_pieces(V[a], V[b], _zone_edges(model), _tolerance(model))
         k = len(a)
-        li = np.concatenate([np.arange(k), i, np.arange(k)])
-        lt = np.concatenate([np.zeros(k), tc, np.ones(k)])
-        order = np.lexsort((lt, li))
-        li, lt = li[order], lt[order]
-        same = li[1:] == li[:-1]
-        e, t0, t1 = li[:-1][same], lt[:-1][same], lt[1:][same]
         mid = V[a][e] + (0.5 * (t0 + t1))[:, None] * t[e]
         cp, cm = capacity_at(model, mid, n[e], _tolerance(model))
         mp, mm = np.zeros(k), np.zeros(k)

@@ -41,6 +41,30 @@ def polygon_edges(poly) -> np.ndarray:
     return np.concatenate(out) if out else np.zeros((0, 2, 2))
 
 
+def _above(p, q, dx, length, x1, y1, x2, y2):
+    """Where lines p -> q run above the (non-vertical) segment (x1, y1)-(x2, y2) within its x-range.
+
+    Returns (sel, span, ha, hb): the lines concerned, the parameter length (t units) of the
+    part above, and the height h = y_line - y_segment at its two ends (h is linear in t)."""
+    xmin, xmax = min(x1, x2), max(x1, x2)
+    sel = np.flatnonzero((np.abs(dx) > 1e-15 * length) & (np.maximum(p[:, 0], q[:, 0]) > xmin)
+                         & (np.minimum(p[:, 0], q[:, 0]) < xmax))
+    pa, qa, d = p[sel], q[sel], dx[sel]
+    ta = np.clip((xmin - pa[:, 0]) / d, 0.0, 1.0)
+    tb = np.clip((xmax - pa[:, 0]) / d, 0.0, 1.0)
+    lo, hi = np.minimum(ta, tb), np.maximum(ta, tb)
+    slope = (y2 - y1) / (x2 - x1)
+    h0 = pa[:, 1] - (y1 + (pa[:, 0] - x1) * slope)
+    h1 = (qa[:, 1] - pa[:, 1]) - d * slope
+    with np.errstate(divide="ignore", invalid="ignore"):
+        root = -h0 / h1
+    lo2 = np.where(h1 > 0, np.maximum(lo, root), lo)
+    hi2 = np.where(h1 < 0, np.minimum(hi, root), hi)
+    hi2 = np.where((h1 == 0) & (h0 <= 0), lo2, hi2)
+    span = np.maximum(hi2 - lo2, 0.0)
+    return sel, span, h0 + h1 * lo2, h0 + h1 * hi2
+
+
 def area_load_work(p: np.ndarray, q: np.ndarray, edges: np.ndarray, intensity: float) -> np.ndarray:
     """Work coefficients f (c,) in kN of a uniform load `intensity` (kPa) on the polygon
     with directed `edges`, for lines p -> q (c, 2)."""
@@ -48,31 +72,11 @@ def area_load_work(p: np.ndarray, q: np.ndarray, edges: np.ndarray, intensity: f
     dx = q[:, 0] - p[:, 0]
     length = np.hypot(dx, q[:, 1] - p[:, 1])
     ny2 = (dx / length) ** 2
-    moving = np.abs(dx) > 1e-15 * length
     for (x1, y1), (x2, y2) in edges:
         if x1 == x2:
             continue
         sign = 1.0 if x2 < x1 else -1.0
-        xmin, xmax = min(x1, x2), max(x1, x2)
-        sel = np.flatnonzero(moving & (np.maximum(p[:, 0], q[:, 0]) > xmin) & (np.minimum(p[:, 0], q[:, 0]) < xmax))
-        if sel.size == 0:
-            continue
-        pa, qa, d = p[sel], q[sel], dx[sel]
-        ta = np.clip((xmin - pa[:, 0]) / d, 0.0, 1.0)
-        tb = np.clip((xmax - pa[:, 0]) / d, 0.0, 1.0)
-        lo, hi = np.minimum(ta, tb), np.maximum(ta, tb)
-        slope = (y2 - y1) / (x2 - x1)
-        # h(t) = y(t) - y_e(x(t)) is linear in t: h0 + h1 t.
-        h0 = pa[:, 1] - (y1 + (pa[:, 0] - x1) * slope)
-        h1 = (qa[:, 1] - pa[:, 1]) - d * slope
-        with np.errstate(divide="ignore", invalid="ignore"):
-            root = -h0 / h1
-        lo2 = np.where(h1 > 0, np.maximum(lo, root), lo)
-        hi2 = np.where(h1 < 0, np.minimum(hi, root), hi)
-        flat = h1 == 0
-        hi2 = np.where(flat & (h0 <= 0), lo2, hi2)
-        span = np.maximum(hi2 - lo2, 0.0)
-        ha, hb = h0 + h1 * lo2, h0 + h1 * hi2
+        sel, span, ha, hb = _above(p, q, dx, length, x1, y1, x2, y2)
         integral = span * (ha * ha + ha * hb + hb * hb) / 3.0  # exact for linear h
         # f = -int phi n_y^2 ds with phi = -q s/2 max(h,0)^2 on this edge's strip.
         f[sel] += 0.5 * intensity * sign * ny2[sel] * length[sel] * integral
@@ -155,26 +159,9 @@ def line_load_work(p: np.ndarray, q: np.ndarray, path: np.ndarray, intensity: fl
                 psi = np.where(y <= ya, 0.0, np.where(y <= yb, 0.5 * (y - ya) ** 2, (yb - ya) * (y - 0.5 * (ya + yb))))
                 f[sel] -= intensity * ny[sel] * psi
             continue
-        xmin, xmax = min(x1, x2), max(x1, x2)
-        density = intensity * seg / (xmax - xmin)  # kN per m of x
-        sel = np.flatnonzero((np.abs(dx) > 1e-15 * length) & (np.maximum(p[:, 0], q[:, 0]) > xmin)
-                             & (np.minimum(p[:, 0], q[:, 0]) < xmax))
-        if sel.size == 0:
-            continue
-        pa, qa, d = p[sel], q[sel], dx[sel]
-        ta = np.clip((xmin - pa[:, 0]) / d, 0.0, 1.0)
-        tb = np.clip((xmax - pa[:, 0]) / d, 0.0, 1.0)
-        lo, hi = np.minimum(ta, tb), np.maximum(ta, tb)
-        slope = (y2 - y1) / (x2 - x1)
-        h0 = pa[:, 1] - (y1 + (pa[:, 0] - x1) * slope)
-        h1 = (qa[:, 1] - pa[:, 1]) - d * slope
-        with np.errstate(divide="ignore", invalid="ignore"):
-            root = -h0 / h1
-        lo2 = np.where(h1 > 0, np.maximum(lo, root), lo)
-        hi2 = np.where(h1 < 0, np.minimum(hi, root), hi)
-        hi2 = np.where((h1 == 0) & (h0 <= 0), lo2, hi2)
-        span = np.maximum(hi2 - lo2, 0.0)
-        integral = span * 0.5 * ((h0 + h1 * lo2) + (h0 + h1 * hi2))  # exact for linear h >= 0
+        density = intensity * seg / abs(x2 - x1)  # kN per m of x
+        sel, span, ha, hb = _above(p, q, dx, length, x1, y1, x2, y2)
+        integral = span * 0.5 * (ha + hb)  # exact for linear h >= 0
         f[sel] -= density * ny[sel] ** 2 * length[sel] * integral
     return f
 

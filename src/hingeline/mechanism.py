@@ -26,7 +26,7 @@ import shapely
 from .candidates import INTERIOR, Candidates, crossings, inside_intervals, piece_edges
 from .capacity import capacity_at
 from .errors import SolverError
-from .geometry import CONTINUOUS, HOGGING_SUPPORT, SUPPORTED, Domain, merge_points, segment_distance
+from .geometry import HOGGING_SUPPORT, SUPPORTED, Domain, merge_points, segment_distance
 from .result import Mechanism, YieldLines
 
 log = logging.getLogger(__name__)
