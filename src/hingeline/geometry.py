@@ -197,7 +197,10 @@ def _trimmed(strip, run, outline, width):
 def _with_margin(outer, outline, kinds, margin, scale):
     tol = 1e-9 * scale
     supported = [LineString(outline[[k, (k + 1) % len(outline)]]) for k in np.flatnonzero(kinds != FREE)]
-    free_mid = [0.5 * (outline[k] + outline[(k + 1) % len(outline)]) for k in np.flatnonzero(kinds == FREE)]
+    # Points along every free edge (ends excluded: they may meet a support) must lie inside D,
+    # or the ground would hold a free edge and the load factor could come out too high.
+    free_pts = [outline[k] + f * (outline[(k + 1) % len(outline)] - outline[k])
+                for k in np.flatnonzero(kinds == FREE) for f in (0.02, 0.25, 0.5, 0.75, 0.98)]
     runs = _free_runs(outline, kinds)
     width = margin
     for _ in range(8):
@@ -213,7 +216,7 @@ def _with_margin(outer, outline, kinds, margin, scale):
             and len(region.interiors) == 0
             and all(region.exterior.distance(s.interpolate(f, normalized=True)) <= 10 * tol
                     for s in supported for f in (0.0, 0.25, 0.5, 0.75, 1.0))
-            and all(region.exterior.distance(shapely.Point(p)) > 0.1 * width for p in free_mid)
+            and all(region.exterior.distance(shapely.Point(p)) > 10 * tol for p in free_pts)
         )
         if ok:
             return shapely.geometry.polygon.orient(region, 1.0), width
