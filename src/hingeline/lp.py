@@ -133,6 +133,28 @@ def _run(h):
     return h.getSolution(), h.getInfo().objective_function_value
 
 
+def _run_rounds(h):
+    """_run for the interior-point rounds; when IPX stops short of optimality (status
+    'Unknown' was seen on a slab on columns), retry with crossover, then with the simplex."""
+    try:
+        return _run(h)
+    except SolverError as first:
+        if h.getModelStatus() in (highspy.HighsModelStatus.kUnbounded, highspy.HighsModelStatus.kInfeasible):
+            raise
+        log.info("interior point stopped (%s); retrying with crossover, then simplex", first)
+    for option, value in (("run_crossover", "on"), ("solver", "simplex")):
+        h.setOptionValue(option, value)
+        try:
+            return _run(h)
+        except SolverError:
+            continue
+        finally:
+            if option == "solver":
+                h.setOptionValue("solver", "ipm")
+            h.setOptionValue("run_crossover", "off")
+    raise SolverError("HiGHS could not solve the linear program with interior point or simplex")
+
+
 def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
              batch=None, patience=3, stall=1e-7, extra=None) -> LPSolution:
     """Adaptive DLO solve. initial: indices of the lines of the first LP.
@@ -157,7 +179,7 @@ def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
     add(np.asarray(initial))
     rounds, history = 0, []
     while True:
-        sol, obj = _run(h)
+        sol, obj = _run_rounds(h)
         rounds += 1
         y = np.asarray(sol.row_dual)
         u = y[: 2 * n_nodes].reshape(-1, 2)
