@@ -316,8 +316,13 @@ from it; rotation the other way (uplift next to the support) is taken as free, w
 load factor (safe side).</li>
 <li><b>Openings and free edges</b> carry no moment. They are modelled by filling the openings, and a strip
 beyond each free edge, with a material of no strength and no load, so the slab beside them moves freely.</li>
-<li><b>Loads</b> are uniform over the slab or over polygonal patches; factored loads are scaled by the load
-factor, held loads stay at their given value.</li>
+<li><b>Loads</b> are uniform over the slab or over polygonal patches, uniform along polylines (line loads)
+or concentrated (point loads); factored loads are scaled by the load factor, held loads stay at their
+given value.</li>
+<li><b>Columns and walls</b> are rigid ground over their footprints. Hinges round a monolithic support
+develop the hogging capacity; the slab rotates freely about a pinned one.</li>
+<li><b>Reinforcement zones</b> replace the slab's capacities inside them; a yield line along a zone
+boundary takes the weaker side.</li>
 <li><b>Check.</b> The mechanism found is re-checked independently of the linear program: internal and
 external work are recomputed from the deflected shape alone (section 6).</li>
 </ul>
