@@ -25,10 +25,11 @@ from .result import Result, SolveStats, Work
 
 log = logging.getLogger(__name__)
 
-CERTIFICATE_RTOL = 1e-6
+CERTIFICATE_RTOL = 1e-6  # relative agreement required between LP and certificate
+VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
 # Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.2 GB (measured on random points).
-# The LP time grows faster still: 1068 nodes took about 1 minute.
-MAX_NODES = 3000  # relative agreement required between LP and certificate
+# The LP time grows faster still: 1068 nodes took 1 to 2.5 minutes.
+MAX_NODES = 3000
 
 
 def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None) -> Result:
@@ -69,7 +70,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
     extra = island_rows(p, q, domain.islands) if domain.islands else None
-    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, extra=extra)
+    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, tol=VIOLATION_TOL, extra=extra)
     lf = sol.objective
     # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).
     lf_scale = m_ref / w_total
@@ -103,7 +104,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
             f"|w| on supports reaches {support_w:.1e} (largest |w| {w_max:.1e}); report this model "
             "to the developers")
-    if sol.max_violation > 1e-7:
+    if sol.max_violation > VIOLATION_TOL:
         warnings.append(
             f"the search for yield lines stopped before proving that no other node-to-node line "
             f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer resolution "
