@@ -520,13 +520,19 @@ def pattern_mechanism(model: Model, pattern: Pattern, params: Mapping[str, float
     return _mechanism(V, T, region, lay)
 
 
-def _field(model, pattern, params):
+def _with_values(pattern, given) -> dict:
+    """The pattern's start values updated with `given` (name -> value); unknown names refused."""
     values = pattern.start_values()
-    if params is not None:
-        unknown = set(params) - set(values)
+    if given is not None:
+        unknown = set(given) - set(values)
         if unknown:
             raise ModelError(f"{pattern.source}: unknown parameter(s) {sorted(unknown)}")
-        values.update({k: float(v) for k, v in params.items()})
+        values.update({k: float(v) for k, v in given.items()})
+    return values
+
+
+def _field(model, pattern, params):
+    values = _with_values(pattern, params)
     try:
         lay = _layout(model, pattern, values)
     except ModelError as exc:
@@ -659,12 +665,7 @@ def check_pattern(model: Model, pattern: Pattern, optimise: bool = True,
     `values`. Raises ModelError naming the region (or pair of regions) for a pattern that does
     not cover the slab, does not fit together, or moves on a supported edge.
     """
-    params = pattern.start_values()
-    if values is not None:
-        unknown = set(values) - set(params)
-        if unknown:
-            raise ModelError(f"{pattern.source}: unknown parameter(s) {sorted(unknown)}")
-        params.update({k: float(v) for k, v in values.items()})
+    params = _with_values(pattern, values)
     names = [p.name for p in pattern.parameters]
     evaluations = 1
     lf0 = _load_factor(model, pattern, params)     # errors at the start point are the user's

@@ -6,24 +6,15 @@ import math
 from pathlib import Path
 
 from ..model import RESOLUTIONS, read_model
+from .solve import positive_number
 
 HELP = ("find the factor by which all moment capacities must be scaled for the load factor to "
         "reach the target (default 1); with a bar schedule, propose bar spacings per layer")
 
 
-def _target(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"--target must be a number, got '{text}'") from None
-    if not (value > 0 and math.isfinite(value)):
-        raise argparse.ArgumentTypeError(f"--target must be > 0, got '{text}'")
-    return value
-
-
 def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("model", type=Path, metavar="MODEL.toml", help="model file (see docs/model-format.md)")
-    parser.add_argument("--target", type=_target, default=1.0, help="target load factor (default 1.0)")
+    parser.add_argument("--target", type=positive_number("--target"), default=1.0, help="target load factor (default 1.0)")
     parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
                         help="mesh resolution; overrides [analysis] resolution of the model file")
 

@@ -15,15 +15,18 @@ HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (yield l
         "deflection.png/.svg (deflected shape)")
 
 
-def _element_size(text: str) -> float:
-    """argparse type for --mesh-size: a finite number > 0 (m)."""
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"--mesh-size must be a number in m, got '{text}'") from None
-    if not (value > 0 and value != float("inf")):
-        raise argparse.ArgumentTypeError(f"--mesh-size must be > 0 m, got '{text}'")
-    return value
+def positive_number(option: str, unit: str = ""):
+    """argparse type: a finite number > 0 for `option` (messages name the option and unit)."""
+    def parse(text: str) -> float:
+        try:
+            value = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{option} must be a number{' in ' + unit if unit else ''}, "
+                                             f"got '{text}'") from None
+        if not (value > 0 and value != float("inf")):
+            raise argparse.ArgumentTypeError(f"{option} must be > 0{' ' + unit if unit else ''}, got '{text}'")
+        return value
+    return parse
 
 
 def add_args(parser: argparse.ArgumentParser) -> None:
@@ -32,7 +35,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
                         help="folder for result.json and the plots (created if missing)")
     parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
                         help="mesh resolution; overrides [analysis] resolution of the model file")
-    parser.add_argument("--mesh-size", type=_element_size, default=None, metavar="M",
+    parser.add_argument("--mesh-size", type=positive_number("--mesh-size", "m"), default=None, metavar="M",
                         help="explicit element size in m; overrides resolution")
 
 
