@@ -31,10 +31,8 @@ class Candidates:
     """Arrays over c candidate lines, each running from node a to node b (a < b).
 
     length: m; tangent: (c, 2) unit vector a -> b; normal: (c, 2) tangent turned +90 deg.
-    slab_length: m of the line inside the slab (0 for lines in fill only).
     kind: INTERIOR, or the boundary kind code (geometry.FREE, SIMPLE, CONTINUOUS,
-        OPENING, MARGIN) for lines lying on a boundary of the slab or of D.
-    edge: index into domain.edges of the slab-boundary piece the line lies on, or -1.
+        OPENING, MARGIN, FACE_*) for lines lying on a boundary of the slab or of D.
     cost_plus, cost_minus: kNm per rad of sagging / hogging rotation.
     """
 
@@ -43,9 +41,7 @@ class Candidates:
     length: np.ndarray
     tangent: np.ndarray
     normal: np.ndarray
-    slab_length: np.ndarray
     kind: np.ndarray
-    edge: np.ndarray
     cost_plus: np.ndarray
     cost_minus: np.ndarray
 
@@ -196,7 +192,6 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
     normal = np.stack([-tangent[:, 1], tangent[:, 0]], axis=1)
 
     interior = np.flatnonzero(kind == INTERIOR)
-    slab_length = np.zeros(len(a))
     cost_plus = np.zeros(len(a))
     cost_minus = np.zeros(len(a))
     has_fill = domain.margin > 0 or len(model.slab.openings) > 0
@@ -208,10 +203,10 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
         mid = p[li] + 0.5 * (t0 + t1)[:, None] * (q[li] - p[li])
         mp, mm = capacity_at(model, mid, normal[li], 10 * tol)
         piece = (t1 - t0) * length[li]
-        np.add.at(slab_length, li, piece)
         np.add.at(cost_plus, li, mp * piece)
         np.add.at(cost_minus, li, mm * piece)
     else:
+        slab_length = np.zeros(len(a))  # m of each line inside the slab (fill costs nothing)
         if has_fill:
             i, t0, t1 = inside_intervals(p[interior], q[interior], domain.edges, domain.slab, tol)
             np.add.at(slab_length, interior[i], (t1 - t0) * length[interior[i]])
@@ -225,5 +220,4 @@ def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candida
     cont = np.flatnonzero(np.isin(kind, HOGGING_SUPPORT))
     _, m_minus = capacity_at(model, 0.5 * (p[cont] + q[cont]), normal[cont], 10 * tol)
     cost_minus[cont] = m_minus * length[cont] * domain.edge_fixity[slab_edge[cont]]
-    return Candidates(a, b, length, tangent, normal, slab_length, kind, slab_edge,
-                      cost_plus, cost_minus)
+    return Candidates(a, b, length, tangent, normal, kind, cost_plus, cost_minus)
