@@ -15,6 +15,9 @@ import pytest
 
 import hingeline
 from hingeline.certificate import slab_region
+from hingeline.fieldcheck import check_field
+from hingeline.geometry import build_domain
+from hingeline.lowerbound import MomentField
 from hingeline.model import model_for_case
 from hingeline.output import write_outputs
 from hingeline.result import Mechanism
@@ -52,3 +55,18 @@ def test_example_certificate(path, tmp_path):
     # Reported yield lines carry the internal work of the mechanism.
     dissipation = sum(line["dissipation"] for line in data["yield_lines"])
     assert dissipation == pytest.approx(data["work"]["internal"], rel=1e-6)
+
+    # The lower bound re-checks from result.json alone (issue 4): the stored moment field is in
+    # equilibrium with the solver's optimum and inside the capacities, so the reported bound
+    # holds, and it lies below the load factor (lower- and upper-bound theorems).
+    lb = data["lower_bound"]
+    assert lb is not None and lb["load_factor"] is not None, data["warnings"]
+    assert 0 < lb["load_factor"] <= data["load_factor"] * (1 + 1e-6)
+    moment_field = MomentField(np.array(lb["field"]["nodes"], float), np.array(lb["field"]["triangles"], int),
+                               np.array(lb["field"]["moments"], float))
+    recheck = check_field(checked, build_domain(checked, margin=data["stats"]["mesh_size"]), moment_field, lb["solved"])
+    assert recheck.in_equilibrium
+    assert lb["load_factor"] <= lb["solved"] / max(1.0, recheck.yield_ratio) * (1 + 1e-12)
+    P = moment_field.nodes[moment_field.triangles]
+    d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
+    assert 0.5 * np.abs(d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]).sum() == pytest.approx(slab.area, rel=1e-9)

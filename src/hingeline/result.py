@@ -15,7 +15,9 @@ from .model import Model
 
 CAUTIONS = (
     "Yield-line analysis is an upper-bound method: the load factor is the collapse "
-    "factor of the mechanism found, which can only be at or above the true collapse factor.",
+    "factor of the mechanism found, which can only be at or above the true collapse factor. "
+    "The lower bound, when given, comes from a moment field in equilibrium and inside the "
+    "yield criterion (lower-bound theorem); it assumes the same ductility as the upper bound.",
     "Not checked: shear and punching shear, deflection and serviceability, ductility "
     "(rotation capacity of the hinges), detailing and anchorage of bars.",
     "Results must be reviewed by a qualified engineer under the codes that apply locally.",
@@ -94,6 +96,26 @@ class CertificateCheck:
 
 
 @dataclass(frozen=True, eq=False)
+class LowerBound:
+    """Outcome of the lower-bound stage (lowerbound.py), re-checked by fieldcheck.py.
+
+    load_factor: a load factor the slab is proven to carry (None when no field passed
+        the re-check: see `reason`); field: the statically admissible moment field
+        (lowerbound.MomentField); check: fieldcheck.FieldCheck of that field;
+        solved: the solver's optimum before the re-check; status: the solver's status;
+        seconds: wall time; reason: why load_factor is None, else "".
+    """
+
+    load_factor: float | None
+    solved: float | None
+    field: object
+    check: object
+    status: str
+    seconds: float
+    reason: str = ""
+
+
+@dataclass(frozen=True, eq=False)
 class Result:
     """Outcome of `hingeline.solve`."""
 
@@ -107,3 +129,10 @@ class Result:
     warnings: tuple[str, ...] = ()
     case: str | None = None                       # load case of this result, when the model has cases
     cases: tuple[tuple[str, float], ...] = ()     # (case name, load factor) of every case solved
+    lower_bound: LowerBound | None = None         # None when the lower bound was not asked for
+
+    @property
+    def gap(self) -> float | None:
+        """(upper - lower) / upper, or None without a lower bound."""
+        lb = self.lower_bound.load_factor if self.lower_bound else None
+        return None if lb is None else (self.load_factor - lb) / self.load_factor

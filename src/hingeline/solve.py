@@ -15,13 +15,15 @@ import shapely
 from .candidates import build_candidates
 from .certificate import check_mechanism
 from .errors import ModelError, SolverError, UnstableSlabError
+from .fieldcheck import check_field
+from .lowerbound import solve_lower_bound
 from .geometry import build_domain
 from .loadwork import island_rows, load_coefficients
 from .lp import solve_lp
 from .mechanism import build_mechanism, yield_lines
 from .mesh import mesh_domain, mesh_size_for
 from .model import RESOLUTIONS, Model, model_for_case
-from .result import Result, SolveStats, Work
+from .result import LowerBound, Result, SolveStats, Work
 
 log = logging.getLogger(__name__)
 
@@ -32,8 +34,11 @@ VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): larg
 MAX_NODES = 3000
 
 
-def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None) -> Result:
-    """Find the collapse mechanism of `model` with the lowest load factor.
+def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None,
+          lower_bound: bool = True) -> Result:
+    """Find the collapse mechanism of `model` with the lowest load factor and, unless
+    lower_bound is False, a lower bound from a statically admissible moment field on the
+    same mesh (see lowerbound.py).
 
     resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
     size in m, overriding the resolution. Raises UnstableSlabError when the slab can
@@ -109,6 +114,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             f"the search for yield lines stopped before proving that no other node-to-node line "
             f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer resolution "
             "may give a slightly lower load factor")
+    lb = _lower_bound(model, domain, mesh, float(lf), warnings) if lower_bound else None
     seconds = time.perf_counter() - t0
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
     stats = SolveStats(len(nodes), slab_nodes, len(cand), int(sol.in_lp.sum()), sol.rounds,
@@ -116,18 +122,49 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     log.info("load factor %.6f (certificate %.6f, plane mismatch %.1e), %.2f s",
              lf, check.load_factor, mismatch, seconds)
     return Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
-                  tuple(warnings))
+                  tuple(warnings), lower_bound=lb)
 
 
-def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None) -> Result:
+def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
+    """Solve for the lower bound, re-check the field, and keep its load factor only if the
+    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion)."""
+    sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
+    if sol.load_factor is None:
+        reason = f"the lower-bound solver stopped with status '{sol.status}'"
+        warnings.append(f"no lower bound: {reason}")
+        return LowerBound(None, None, None, None, sol.status, sol.seconds, reason)
+    chk = check_field(model, domain, sol.field, sol.load_factor)
+    value, reason = sol.load_factor, ""
+    if not chk.in_equilibrium:
+        value, reason = None, (f"the moment field is out of equilibrium by {chk.relative:.1e} (relative) "
+                               "on re-check")
+    elif chk.yield_ratio > 1.0:
+        if any(not ld.factored for ld in model.loads):
+            value, reason = None, f"the moment field exceeds the capacities (ratio {chk.yield_ratio:.9f})"
+        else:
+            # Without held loads the field scaled by 1 / ratio is admissible for value / ratio.
+            value = sol.load_factor / chk.yield_ratio
+    if value is None:
+        warnings.append(f"no lower bound: {reason}")
+    elif value > upper * (1 + CERTIFICATE_RTOL):
+        warnings.append(
+            f"the lower bound {value:.6g} exceeds the load factor {upper:.6g}: one of the two is wrong; "
+            "report this model to the developers")
+    log.info("lower bound %s (solver %.6f, %s, %.2f s)", value, sol.load_factor, sol.status, sol.seconds)
+    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, sol.seconds, reason)
+
+
+def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None,
+                lower_bound: bool = True) -> Result:
     """Solve every load case of `model` (or the model itself when it has none) and return the
-    governing result: the case with the lowest load factor, carrying the table of all cases."""
+    governing result: the case with the lowest load factor, carrying the table of all cases.
+    Its lower bound is that of the governing case."""
     if not model.cases:
-        return solve(model, resolution, mesh_size)
+        return solve(model, resolution, mesh_size, lower_bound)
     results = []
     for case in model.cases:
         log.info("load case %s", case.name)
-        results.append((case.name, solve(model_for_case(model, case), resolution, mesh_size)))
+        results.append((case.name, solve(model_for_case(model, case), resolution, mesh_size, lower_bound)))
     name, governing = min(results, key=lambda nr: nr[1].load_factor)
     table = tuple((n, r.load_factor) for n, r in results)
     # The result keeps the case's own model (its loads), so its certificate re-checks as it is.
