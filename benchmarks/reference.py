@@ -13,7 +13,15 @@ to that case alone (it includes the interpreter and the imported libraries).
 All cases: unit lengths (m), one uniform area load q = 1 kPa over the whole slab,
 so the load factor is the collapse load in kPa, i.e. the coefficient of m / L^2.
 
+The lower bound (issue 4) is computed in the same solve; its columns: "lower bd" (the
+value), "LB err %" against the reference, "gap %" = (load factor - lower bound) / load
+factor, and "LB s" (the lower-bound stage's own time, included in "time s").
+
 Flags in the last column:
+  LB>REF!      lower bound above the reference: every reference here is exact or an upper
+               bound on the exact value, so this is a bug (the lower bound would be unsafe).
+  LB>UB!       lower bound above the load factor: a bug in one of the two.
+  gap>target   gap larger than the issue-4 target (square cases: 3 % at normal, 1.5 % at fine).
   UNSAFE?      load factor more than 0.1 % BELOW the reference (hingeline gives upper
                bounds, so a value below an exact reference points at a bug; for a
                reference that is itself only an upper bound it may be legitimate).
@@ -62,6 +70,7 @@ class Case:
     source_long: str                 # full citation / derivation, printed under the table
     target: dict[str, float | None] = field(default_factory=dict)  # resolution -> |error| limit, %
     default_target: float | None = None
+    gap_target: dict[str, float] = field(default_factory=dict)     # resolution -> gap limit, % (issue 4)
 
     def target_for(self, resolution: str) -> float | None:
         return self.target.get(resolution, self.default_target)
@@ -111,6 +120,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
                      "moment field; Nielsen & Hoang, Limit Analysis and Concrete Plasticity "
                      "(recalled, not looked up)."),
         default_target=0.1,
+        gap_target={"normal": 3.0, "fine": 1.5},
     ),
     Case(
         "clamped_square",
@@ -120,6 +130,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
         source_long=("42.851 m/L^2: Fox, Phil. Trans. R. Soc. A 277 (1974); exact for the "
                      "square yield criterion (value and citation as given in the brief)."),
         target={"normal": 1.5, "fine": 0.7},   # none stated for "coarse"
+        gap_target={"normal": 3.0, "fine": 1.5},
     ),
     Case(
         "ss_rectangle_1x2",
@@ -193,6 +204,8 @@ def _run_case(name: str, resolution: str) -> dict:
             candidate_lines=int(s.candidate_lines), lp_lines=int(s.lp_lines),
             rounds=int(s.rounds), solve_seconds=float(s.seconds), wall=wall,
             warnings=list(r.warnings),
+            lower=None if r.lower_bound is None else r.lower_bound.load_factor,
+            lower_seconds=None if r.lower_bound is None else float(r.lower_bound.seconds),
         )
     except Exception as exc:  # report, do not crash the table
         out = dict(ok=False, error=f"{type(exc).__name__}: {exc}")
@@ -213,7 +226,8 @@ COLUMNS = [
     ("case", 28, "<"), ("res", 6, "<"), ("load factor", 11, ">"), ("reference", 9, ">"),
     ("source", 31, "<"), ("err %", 8, ">"), ("target %", 8, ">"), ("nodes slab/all", 14, ">"),
     ("cand. lines", 11, ">"), ("LP lines", 8, ">"), ("rounds", 6, ">"), ("time s", 7, ">"),
-    ("peak MB", 7, ">"), ("cert. rel.diff", 14, ">"), ("flags", 0, "<"),
+    ("peak MB", 7, ">"), ("cert. rel.diff", 14, ">"), ("lower bd", 9, ">"), ("LB err %", 8, ">"),
+    ("gap %", 6, ">"), ("LB s", 5, ">"), ("flags", 0, "<"),
 ]
 
 
@@ -228,7 +242,7 @@ def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[st
     tgt = "n/a" if target is None else f"{target:g}"
     if not first["ok"]:
         vals = [case.name, resolution, "FAILED", f"{case.reference:.4f}", case.source, "", tgt,
-                "", "", "", "", "", f"{max(r['peak_mb'] for r in runs):.0f}", "", "ERROR"]
+                "", "", "", "", "", f"{max(r['peak_mb'] for r in runs):.0f}", "", "", "", "", "", "ERROR"]
         notes.append(f"{case.name} @ {resolution}: {first['error']}")
         return _fmt_row(vals), notes
     lf = first["load_factor"]
@@ -239,6 +253,19 @@ def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[st
         flags.append("UNSAFE?")
     if target is not None and abs(err) > target:
         flags.append("over target")
+    lower = first["lower"]
+    if lower is None:
+        lb_cols = ["none", "", "", ""]
+    else:
+        gap = (lf - lower) / lf * 100.0
+        lb_cols = [f"{lower:.5f}", f"{(lower - case.reference) / case.reference * 100.0:+.3f}", f"{gap:.2f}",
+                   f"{statistics.median(r['lower_seconds'] for r in runs if r['ok']):.2f}"]
+        if lower > case.reference * (1 + 1e-6):
+            flags.append("LB>REF!")
+        if lower > lf * (1 + 1e-6):
+            flags.append("LB>UB!")
+        if resolution in case.gap_target and gap > case.gap_target[resolution]:
+            flags.append("gap>target")
     times = [r["wall"] for r in runs if r["ok"]]
     lfs = {round(r["load_factor"], 10) for r in runs if r["ok"]}
     if len(lfs) > 1:
@@ -249,7 +276,7 @@ def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[st
         case.name, resolution, f"{lf:.5f}", f"{case.reference:.4f}", case.source, f"{err:+.3f}", tgt,
         f"{first['slab_nodes']}/{first['nodes']}", str(first["candidate_lines"]), str(first["lp_lines"]),
         str(first["rounds"]), f"{statistics.median(times):.2f}",
-        f"{max(r['peak_mb'] for r in runs):.0f}", f"{cert:.1e}", " ".join(flags),
+        f"{max(r['peak_mb'] for r in runs):.0f}", f"{cert:.1e}", *lb_cols, " ".join(flags),
     ]
     return _fmt_row(vals), notes
 

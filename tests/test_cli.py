@@ -176,8 +176,9 @@ def fake_solver(monkeypatch):
     calls: list[dict] = []
     behaviour: dict = {"raise": None}
 
-    def solve(model, resolution=None, mesh_size=None):
-        calls.append({"model": model, "resolution": resolution, "mesh_size": mesh_size})
+    def solve(model, resolution=None, mesh_size=None, lower_bound=True):
+        calls.append({"model": model, "resolution": resolution, "mesh_size": mesh_size,
+                      "lower_bound": lower_bound})
         if behaviour["raise"] is not None:
             raise behaviour["raise"]
         return fan_result(model)
@@ -196,6 +197,7 @@ def test_solve_writes_outputs_and_prints_summary(tmp_path, capsys, fake_solver):
     out = capsys.readouterr().out
     assert code == 0
     assert fake_solver.calls[0]["resolution"] == "fine"
+    assert fake_solver.calls[0]["lower_bound"] is True
     assert fake_solver.calls[0]["model"].title == "CLI test slab"
     assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "pattern.png",
                                                         "pattern.svg", "result.json"]
@@ -278,6 +280,10 @@ def test_demo_end_to_end_with_solver(tmp_path, capsys):
     assert (tmp_path / "demo" / "pattern.png").stat().st_size > 10_000
     assert (tmp_path / "demo" / "deflection.png").stat().st_size > 10_000
     assert b"<svg" in (tmp_path / "demo" / "deflection.svg").read_bytes()[:2000]
+    # issue 4: the lower bound is printed, stored and plotted
+    lb = data["lower_bound"]["load_factor"]
+    assert 0 < lb <= lf and f"lower bound = {lb:.4f}" in out
+    assert (tmp_path / "demo" / "utilisation.png").stat().st_size > 10_000
 
 
 def test_solve_end_to_end_with_solver(tmp_path, capsys):
@@ -316,3 +322,9 @@ resolution = "coarse"
     out = capsys.readouterr().out
     assert "capacity scale for load factor 1 = 2.0000" in out and "NOT adequate" in out
     assert main(["design", str(model), "--target", "-1"]) == 2
+
+
+def test_no_lower_bound_flag_reaches_the_solver(tmp_path, capsys, fake_solver):
+    model = write_model(tmp_path, GOOD_MODEL)
+    assert main(["solve", str(model), "-o", str(tmp_path / "out"), "--no-lower-bound"]) == 0
+    assert fake_solver.calls[0]["lower_bound"] is False

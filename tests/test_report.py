@@ -6,6 +6,7 @@ that the record states what the solve found and that its work equation balances.
 """
 from __future__ import annotations
 
+import dataclasses
 import os
 import re
 import shutil
@@ -126,6 +127,25 @@ def test_report_states_load_factor_loads_and_cautions(coarse_report):
     assert "<b>bold</b>" not in text
 
 
+def test_report_lower_bound_section(coarse_report):
+    _, _, text = coarse_report
+    assert "<h2>7. Lower bound</h2>" in text
+    assert text.index("6. Warnings and independent check") < text.index("7. Lower bound") < text.index("8. Cautions")
+    v = _Values()
+    v.feed(text)
+    lf, lower, gap = v.ids["load-factor"], v.ids["lower-bound"], v.ids["gap"]
+    assert 0 < lower <= lf * (1 + 1e-6)
+    assert gap == pytest.approx((lf - lower) / lf, rel=1e-9)
+    assert f"λ<sub>lower</sub> = {lower:.4f}" in text and f"{100 * gap:.1f} %" in text
+    check = _rows(v, "lower-bound-check")            # one row per quantity of the re-check
+    assert len(check) == 8
+    relative, ratio, ratio_points = check[5][0], check[6][0], check[7][0]
+    assert relative <= 1e-6 and ratio <= 1.0 and ratio_points <= ratio + 1e-9
+    assert "Krabbenhoft and Damkilde" in text and "Nielsen and Hoang" in text
+    section = text[text.index("7. Lower bound"):text.index("8. Cautions")]
+    assert 'alt="Utilisation of the lower-bound moment field" src="data:image/svg+xml;base64,' in section
+
+
 def test_report_work_equation_balances(coarse_report):
     model, _, text = coarse_report
     v = _Values()
@@ -165,6 +185,15 @@ def test_report_data_matches_the_result():
     assert bal["groups"][2][1] > 0 and bal["groups"][2][2] > 0
     html_text = build_report(model, {"coarse": res}, generated="test")
     assert "Only one resolution was solved" in html_text
+    lb = data["lower_bound"]
+    assert lb["load_factor"] == res.lower_bound.load_factor and lb["gap"] == pytest.approx(res.gap)
+    # without a lower bound the section says why, and draws no utilisation plot
+    for lower, says in ((None, "not computed"),
+                        (dataclasses.replace(res.lower_bound, load_factor=None, reason="invented test reason"),
+                         "No lower bound: invented test reason")):
+        page = build_report(model, {"coarse": dataclasses.replace(res, lower_bound=lower)}, generated="test")
+        section = page[page.index("7. Lower bound"):page.index("8. Cautions")]
+        assert says in section and 'id="lower-bound"' not in section and "<img" not in section
 
 
 def test_cli_report_writes_page_and_convergence_table(tmp_path, capsys):

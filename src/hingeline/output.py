@@ -33,8 +33,9 @@ log = logging.getLogger(__name__)
 PLOT_FORMATS = ("png", "pdf", "svg")
 
 #: Plots `write_outputs` writes, as file stem -> plot function name in plot.py
-#: (pattern: yield-line plan; deflection: contour plan of w / w_max).
-PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection"}
+#: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
+#: ratio of the lower-bound moment field, written only when the result has that field).
+PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
 
 #: Resolution of raster plot files, dots per inch.
 PLOT_DPI = 150
@@ -170,7 +171,10 @@ def result_to_dict(result: Result) -> dict:
     factored, held}, mechanism {vertices, triangles, w}, stats (all SolveStats
     fields), certificate (all CertificateCheck fields), model (the model as solved:
     for a model with load cases, the governing case's loads), warnings, cautions,
-    case (governing load case or None), cases (name and load factor of every case). Floats keep full precision; non-finite floats become None.
+    case (governing load case or None), cases (name and load factor of every case),
+    lower_bound (None when not computed, else {load_factor, gap, solved, status, seconds,
+    reason, check, field {nodes, triangles, moments}}). Floats keep full precision;
+    non-finite floats become None.
     See docs/result-format.md.
     """
     mech = result.mechanism
@@ -193,7 +197,33 @@ def result_to_dict(result: Result) -> dict:
         "cautions": list(CAUTIONS),
         "case": result.case,
         "cases": [{"name": n, "load_factor": _float(lf)} for n, lf in result.cases],
+        "lower_bound": _lower_bound_to_dict(result),
     }
+
+
+def _lower_bound_to_dict(result: Result) -> dict | None:
+    """The lower bound, its re-check and its moment field (nodes renumbered to those used)."""
+    lb = result.lower_bound
+    if lb is None:
+        return None
+    out = {
+        "load_factor": None if lb.load_factor is None else _float(lb.load_factor),
+        "gap": None if result.gap is None else _float(result.gap),
+        "solved": None if lb.solved is None else _float(lb.solved),
+        "status": lb.status,
+        "seconds": _float(lb.seconds),
+        "reason": lb.reason,
+        "check": None if lb.check is None else _fields(lb.check),
+        "field": None,
+    }
+    if lb.field is not None:
+        used, tri = np.unique(np.asarray(lb.field.triangles), return_inverse=True)
+        out["field"] = {
+            "nodes": _floats(np.asarray(lb.field.nodes)[used]),
+            "triangles": tri.reshape(-1, 3).tolist(),
+            "moments": _floats(np.asarray(lb.field.moments)),
+        }
+    return out
 
 
 def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
@@ -237,8 +267,9 @@ def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
 
 
 def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[str] = ("png",)) -> list[Path]:
-    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt> and OUTDIR/deflection.<fmt> for
-    each format; return the paths (result.json first, then the plots format by format).
+    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt>, OUTDIR/deflection.<fmt> and (with a
+    lower-bound field) OUTDIR/utilisation.<fmt> for each format; return the paths (result.json
+    first, then the plots format by format).
 
     formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
     pattern: the yield-line plan (plot.plot_pattern); deflection: the contour plan of
@@ -255,8 +286,11 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
 
     text = json.dumps(result_to_dict(result), indent=1, allow_nan=False) + "\n"
     blobs: list[tuple[str, bytes]] = [("result.json", text.encode("utf-8"))]
+    has_field = result.lower_bound is not None and result.lower_bound.field is not None
     for fmt in dict.fromkeys(formats):
         for kind in PLOT_KINDS:
+            if kind == "utilisation" and not has_field:
+                continue
             blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind)))
 
     out = Path(outdir)

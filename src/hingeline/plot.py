@@ -13,7 +13,9 @@ Visual language (readable in black and white):
 
 Also the mechanism's deflected shape on its own: `plot_deflection` (filled,
 labelled contours of w / w_max in plan) and `plot_deflection_3d` (grey shaded
-surface, z axis pointing down so the slab sags on the page).
+surface, z axis pointing down so the slab sags on the page); and the lower bound's
+moment field: `plot_utilisation` (its yield ratio in plan, white where unstressed
+to dark brown at yield).
 
 Only the Agg backend is used (no pyplot, no display). Axes are in m.
 """
@@ -64,6 +66,23 @@ SCALE_BAR_GID = "scale bar"
 
 #: Default figure size, inches (fits an A4 page with margins).
 FIGURE_SIZE = (7.0, 5.5)
+
+#: Label of the colour bar of `plot_utilisation`.
+UTILISATION_LABEL = "utilisation (yield ratio)"
+
+#: Text drawn by `plot_utilisation` when the result has no lower-bound field.
+NO_LOWER_BOUND_TEXT = "no lower bound for this result"
+
+# utilisation: white (unstressed) through pale amber to dark brown (at yield); the
+# lightness falls steadily, so the shading also reads in grey print
+_UTIL_ANCHORS = np.array([[1.0, 1.0, 1.0], [0.98, 0.86, 0.58], [0.85, 0.47, 0.16], [0.38, 0.12, 0.04]])
+UTILISATION_CMAP = ListedColormap(
+    np.stack([np.interp(np.linspace(0.0, 1.0, 256), np.linspace(0.0, 1.0, len(_UTIL_ANCHORS)), _UTIL_ANCHORS[:, c])
+              for c in range(3)], axis=1), name="hingeline_utilisation")
+
+# the 4 sub-triangles of a quadratic triangle's 6 node points (vertices 0-2, then the
+# mid-points of sides (0,1), (1,2), (2,0)); counter-clockwise like the parent
+_SUB_TRIANGLES = np.array([[0, 3, 5], [3, 1, 4], [5, 4, 2], [3, 4, 5]])
 
 
 def _new_axes(projection: str | None = None) -> Axes:
@@ -268,7 +287,6 @@ def _draw_deflection(ax: Axes, result: Result):
 
 
 def _legend_handles(result: Result) -> list:
-    edges = set(result.model.slab.edges)
     handles = []
     sag = np.asarray(result.yield_lines.sagging, dtype=bool)
     if np.any(sag):
@@ -277,6 +295,16 @@ def _legend_handles(result: Result) -> list:
     if np.any(~sag):
         handles.append(Line2D([], [], color=HOGGING_COLOUR, linestyle=HOGGING_STYLE, linewidth=2.0,
                               label="hogging yield line (top bars yield)"))
+    handles += _plan_handles(result.model)
+    handles.append(Line2D([], [], color="none", label="line weight grows with rotation"))
+    return handles
+
+
+def _plan_handles(model, loads: bool = True) -> list:
+    """Legend entries of the plan's fixed items: edges, openings, loads (unless loads is
+    False), zones, columns and walls."""
+    edges = set(model.slab.edges)
+    handles = []
     if "simple" in edges:
         handles.append(Line2D([], [], color=EDGE_COLOUR, linewidth=1.4, marker="|", markersize=7,
                               label="simply supported edge (ticks outside)"))
@@ -286,24 +314,23 @@ def _legend_handles(result: Result) -> list:
     if "free" in edges:
         handles.append(Line2D([], [], color=EDGE_COLOUR, linewidth=0.8, linestyle=(0, (4, 2.5)),
                               label="free edge"))
-    if result.model.slab.openings:
+    if model.slab.openings:
         handles.append(Patch(facecolor="white", edgecolor="0.55", hatch="xx", label="opening (free edges)"))
-    loads = result.model.loads
-    if any(getattr(ld, "region", None) is not None for ld in loads):
-        handles.append(Patch(facecolor="none", edgecolor="0.35", hatch="..", linestyle=":", label="load patch"))
-    if any(hasattr(ld, "path") for ld in loads):
-        handles.append(Line2D([], [], linestyle=":", linewidth=2.0, color=EDGE_COLOUR, label="line load"))
-    if any(hasattr(ld, "at") for ld in loads):
-        handles.append(Line2D([], [], linestyle="none", marker="v", color=EDGE_COLOUR, label="point load"))
-    if result.model.zones:
+    if loads:
+        if any(getattr(ld, "region", None) is not None for ld in model.loads):
+            handles.append(Patch(facecolor="none", edgecolor="0.35", hatch="..", linestyle=":", label="load patch"))
+        if any(hasattr(ld, "path") for ld in model.loads):
+            handles.append(Line2D([], [], linestyle=":", linewidth=2.0, color=EDGE_COLOUR, label="line load"))
+        if any(hasattr(ld, "at") for ld in model.loads):
+            handles.append(Line2D([], [], linestyle="none", marker="v", color=EDGE_COLOUR, label="point load"))
+    if model.zones:
         handles.append(Line2D([], [], linestyle=(0, (6, 2, 1, 2, 1, 2)), linewidth=0.9, color="0.25",
                               label="reinforcement zone"))
-    conns = {sp.connection for sp in result.model.supports}
+    conns = {sp.connection for sp in model.supports}
     if "pinned" in conns:
         handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, label="column or wall, pinned"))
     if "monolithic" in conns:
         handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, hatch="++", label="column or wall, monolithic"))
-    handles.append(Line2D([], [], color="none", label="line weight grows with rotation"))
     return handles
 
 
@@ -465,4 +492,94 @@ def plot_deflection_3d(result: Result, ax: Axes | None = None) -> Axes:
     for axis in (ax.xaxis, ax.yaxis, ax.zaxis):
         axis.set_pane_color((1.0, 1.0, 1.0, 0.0))
     ax.set_title(_title(result, "deflected shape of the mechanism"), fontsize=10)
+    return ax
+
+
+def utilisation_points(result: Result) -> tuple[Triangulation, np.ndarray] | None:
+    """Where `plot_utilisation` shades and what: (Triangulation, ratio) or None without a field.
+
+    The 6 node points of every triangle of result.lower_bound.field (vertices, then the
+    mid-points of sides (0,1), (1,2), (2,0)), each triangle kept separate (the field jumps
+    between triangles) and split into 4 sub-triangles; ratio (6 t,) is the yield ratio
+    (fieldcheck.yield_ratio, dimensionless) of the moments there against the capacities of
+    the triangle's zone, clipped to 0..1 for display (inf, where a moment has no bars to
+    resist it, shows as 1). Coordinates in m.
+    """
+    from .fieldcheck import yield_ratio
+    from .lowerbound import SIDES, element_capacities
+
+    lb = result.lower_bound
+    field = None if lb is None else lb.field
+    if field is None or len(field.triangles) == 0:
+        return None
+    p = np.asarray(field.nodes, dtype=float)[np.asarray(field.triangles, dtype=int)]   # (t, 3, 2)
+    t = len(p)
+    pts = np.concatenate([p, 0.5 * (p[:, SIDES[:, 0]] + p[:, SIDES[:, 1]])], axis=1)  # (t, 6, 2)
+    cap = element_capacities(result.model, p.mean(axis=1))
+    ratio = yield_ratio(np.asarray(field.moments, dtype=float).reshape(-1, 3), np.repeat(cap, 6, axis=0),
+                        result.model.capacity.bar_angle)
+    ratio = np.clip(np.nan_to_num(ratio, posinf=1.0), 0.0, 1.0)
+    subs = (6 * np.arange(t)[:, None, None] + _SUB_TRIANGLES[None]).reshape(-1, 3)
+    xy = pts.reshape(-1, 2)
+    return Triangulation(xy[:, 0], xy[:, 1], subs), ratio
+
+
+def _bounds_text(result: Result) -> str:
+    """'lower bound 1.4557 · upper bound 1.4877 · gap 2.2 %', or why there is no lower bound."""
+    lb = result.lower_bound
+    upper = f"upper bound {result.load_factor:.4f}"
+    if lb is None:
+        return f"lower bound not computed · {upper}"
+    if lb.load_factor is None:
+        return f"no lower bound ({lb.reason or lb.status}) · {upper}"
+    return f"lower bound {lb.load_factor:.4f} · {upper} · gap {100.0 * result.gap:.1f} %"
+
+
+def plot_utilisation(result: Result, ax: Axes | None = None):
+    """Plan of the lower-bound moment field's utilisation; return the Axes.
+
+    result: a hingeline Result. ax: Axes to draw on; a new 7 x 5.5 in figure with an Agg
+    canvas is made when None. Shades the yield ratio of result.lower_bound.field (see
+    `utilisation_points`; 0 where the moments are zero, 1 where they reach the capacities)
+    from white to dark brown, linear on 4 sub-triangles of each triangle, with a colour bar
+    "utilisation (yield ratio)"; outline (edge conditions as in `plot_pattern`), hatched
+    openings, columns and walls, zones, a legend of these, a scale bar, axes in m; the title
+    gives the lower bound, the upper bound (the load factor) and their gap in per cent.
+    Without a field (no lower bound asked for, or the solver found none) the plan is drawn
+    with the centred text "no lower bound for this result". Never shows.
+    """
+    if ax is None:
+        ax = _new_axes()
+    slab = result.model.slab
+    outline, lo, hi, size = _plan_extent(result)
+    shaded = utilisation_points(result)
+    if shaded is not None:
+        tri, ratio = shaded
+        # rasterised like the grey shading of plot_pattern: a vector gouraud mesh of every
+        # sub-triangle would make the SVG of a fine mesh several MB
+        mesh = ax.tripcolor(tri, ratio, shading="gouraud", cmap=UTILISATION_CMAP, vmin=0.0, vmax=1.0,
+                            zorder=1, rasterized=True)
+        cbar = ax.figure.colorbar(mesh, ax=ax, shrink=0.8, pad=0.02, ticks=np.linspace(0.0, 1.0, 6))
+        cbar.set_label(UTILISATION_LABEL, fontsize=8)
+        cbar.ax.tick_params(labelsize=7)
+    else:
+        centre = 0.5 * (lo + hi)
+        lb = result.lower_bound
+        why = "" if lb is None else (lb.reason or f"solver status: {lb.status}")
+        ax.text(centre[0], centre[1], NO_LOWER_BOUND_TEXT + (f"\n({why})" if why else ""), ha="center",
+                va="center", fontsize=11, wrap=True, zorder=8,
+                bbox=dict(facecolor="white", edgecolor="0.4", boxstyle="round,pad=0.5"))
+    _draw_openings(ax, slab.openings)
+    _draw_supports(ax, result.model)
+    _draw_zones(ax, result.model)
+    _draw_outline(ax, outline, tuple(slab.edges), size)
+    _set_plan_limits(ax, lo, hi, size)
+    head = result.model.title.strip()
+    lines = [head] if head else []
+    lines += ["utilisation of the lower-bound moment field", _bounds_text(result)]
+    ax.set_title("\n".join(lines), fontsize=10)
+    handles = _plan_handles(result.model, loads=False)
+    if handles:
+        ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, -0.12), ncol=2, fontsize=7,
+                  frameon=False, handlelength=3.2)
     return ax

@@ -3,19 +3,21 @@
 `build_report(model, results_by_resolution)` turns the solves of one model at
 several mesh resolutions into the text of an HTML page: model summary, method
 and assumptions, the load factor in words, the energy balance, resolution and
-convergence, warnings and the certificate check, the cautions and the drawings.
+convergence, warnings and the certificate check, the lower bound and its
+re-check, the cautions and the drawings.
 Drawings are embedded (SVG as data URIs), CSS is inline; the page needs no
 network and no JavaScript. `write_report(model, outdir, resolutions)` solves,
 renders in memory and only then writes OUTDIR/report.html.
 
 `report_data(...)` returns the numbers the page prints (energy balance,
-convergence table) as plain Python values, for tests and other callers.
+convergence table, lower bound) as plain Python values, for tests and other callers.
 
 Units: lengths m, moments kNm/m, area loads kPa, work kNm, time s.
 """
 from __future__ import annotations
 
 import base64
+import dataclasses
 import html
 import io
 import logging
@@ -27,6 +29,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from .certificate import work_per_load
+from .fieldcheck import EQUILIBRIUM_RTOL
 from .model import RESOLUTIONS, Model
 from .output import CERTIFICATE_RTOL, certificate_agrees, hingeline_version
 from .result import CAUTIONS, Result
@@ -160,13 +163,34 @@ def _trend(rows: list[dict]) -> str:
     return text
 
 
+def lower_bound_summary(result: Result) -> dict:
+    """The lower bound of `result` as printed: computed (bool), load_factor (None when
+    there is none), upper (the load factor), gap ((upper - lower) / upper or None),
+    solved (the solver's optimum), status, seconds, reason, and check (the re-check,
+    fieldcheck.FieldCheck as a dict: equilibrium kPa, moment_jump kNm/m, shear_jump kN/m,
+    corner kN, load_total kN, relative, yield_ratio, yield_ratio_points; or None)."""
+    lb = result.lower_bound
+    out = {"computed": lb is not None, "load_factor": None, "upper": float(result.load_factor), "gap": None,
+           "solved": None, "status": "", "seconds": None, "reason": "", "check": None}
+    if lb is None:
+        return out
+    chk = lb.check
+    out.update(load_factor=None if lb.load_factor is None else float(lb.load_factor),
+               gap=None if result.gap is None else float(result.gap),
+               solved=None if lb.solved is None else float(lb.solved), status=str(lb.status),
+               seconds=float(lb.seconds), reason=str(lb.reason or ""),
+               check=None if chk is None else {f.name: float(getattr(chk, f.name)) for f in dataclasses.fields(chk)})
+    return out
+
+
 def report_data(model: Model, results: Mapping[str, Result], primary: str | None = None) -> dict:
-    """The numbers the report prints: primary label, energy balance, convergence rows."""
+    """The numbers the report prints: primary label, energy balance, convergence rows,
+    and the lower bound of the primary solve (see lower_bound_summary)."""
     if not results:
         raise ValueError("report needs at least one result")
     primary = _primary(model, results, primary)
     return {"primary": primary, "balance": energy_balance(model, results[primary]),
-            "convergence": convergence_rows(results)}
+            "convergence": convergence_rows(results), "lower_bound": lower_bound_summary(results[primary])}
 
 
 def _primary(model: Model, results: Mapping[str, Result], primary: str | None) -> str:
@@ -329,6 +353,99 @@ external work are recomputed from the deflected shape alone (section 6).</li>
 """
 
 
+# Units, number formats and meanings of the re-check's quantities (fieldcheck.FieldCheck), in table order.
+_CHECK_ROWS = {
+    "equilibrium": ("kPa", ".3e", "largest residual of m<sub>x,xx</sub> + 2 m<sub>xy,xy</sub> + m<sub>y,yy</sub> + p "
+                           "in a triangle"),
+    "moment_jump": ("kNm/m", ".3e", "largest jump of the normal moment m<sub>n</sub> across a side, or m<sub>n</sub> "
+                             "left on a free or simply supported edge"),
+    "shear_jump": ("kN/m", ".3e", "largest imbalance of the Kirchhoff shear V<sub>n</sub> across a side, or on a "
+                           "free edge"),
+    "corner": ("kN", ".3e", "largest unbalanced corner force at a node off the supports"),
+    "load_total": ("kN", ".3e", "total area load on the triangles less that on the slab itself"),
+    "relative": ("–", ".3e", "largest of the above, each divided by its scale (load, capacity, total load)"),
+    "yield_ratio": ("–", ".9f", "largest yield ratio at the control values, which bound the field (≤ 1: inside "
+                         "the yield criterion everywhere)"),
+    "yield_ratio_points": ("–", ".9f", "largest yield ratio at 10 points inside each triangle"),
+}
+
+_LOWER_METHOD = (
+    "<p>The lower bound comes from equilibrium finite elements on the triangles of the same mesh: in each "
+    "triangle m<sub>x</sub>, m<sub>y</sub> and m<sub>xy</sub> are quadratic and in equilibrium with the load; "
+    "the normal moment and the Kirchhoff shear are continuous across every side, corner forces balance at the "
+    "nodes off the supports, and the edges carry what their conditions allow. Nielsen's yield criterion (in the "
+    "bar axes) is imposed at the Bernstein control values of each triangle, which bound the quadratic field, so "
+    "the field is inside the criterion everywhere; a cone program finds the largest load factor for which such "
+    "a field exists. By the lower-bound theorem of plasticity the slab then carries that load factor. The field "
+    "is re-checked afterwards from the field and the model alone (table below). Sources: Krabbenhoft and "
+    "Damkilde, Computers &amp; Structures 80 (2002), for the elements; Nielsen and Hoang, <i>Limit Analysis "
+    "and Concrete Plasticity</i>, for the yield criterion.</p>")
+
+
+def _lower_bound_section(res: Result, number: int, figure: int) -> str:
+    """HTML of the lower-bound section, numbered `number`; its drawing is Figure `figure`."""
+    from . import plot
+
+    lb = lower_bound_summary(res)
+    lf = lb["upper"]
+    out = [f"<h2>{number}. Lower bound</h2>"]
+    if not lb["computed"]:
+        out.append("<p id=\"lower-bound-none\">Lower bound: <b>not computed</b> for this result (the solve "
+                   "was asked for the upper bound only). The true collapse factor is at or below the load "
+                   f"factor {lf:.4f}; how far below is not known from this record.</p>")
+        return "\n".join(out)
+    held = (", with the held loads present at their given values"
+            if any(not ld.factored for ld in res.model.loads) else "")
+    lower = lb["load_factor"]
+    if lower is None:
+        out.append(f"<p id=\"lower-bound-none\" class=\"warn\">No lower bound: {_e(lb['reason'] or lb['status'])}.</p>"
+                   f"<p>The true collapse factor is at or below the load factor {lf:.4f}; how far below is not "
+                   "known from this record.</p>")
+    else:
+        gap = lb["gap"]
+        out.append(
+            f"<div class=\"headline\">Lower bound <b id=\"lower-bound\" data-value=\"{lower!r}\">{lower:.4f}</b>"
+            f" · gap <b id=\"gap\" data-value=\"{gap!r}\">{100.0 * gap:.1f} %</b></div>")
+        out.append(
+            f"<p>The slab carries at least <b>λ<sub>lower</sub> = {lower:.4f}</b> times the factored loads{held} "
+            f"(lower-bound theorem); the mechanism found fails at <b>{lf:.4f}</b> (upper bound). The true collapse "
+            f"factor lies between the two; the gap, (upper − lower) / upper, is <b>{100.0 * gap:.1f} %</b>.</p>")
+        if gap < 0:
+            out.append("<p class=\"warn\">The lower bound is above the upper bound: one of the two is wrong. "
+                       "Do not use this result (see the warnings, section 6).</p>")
+        if lb["solved"] is not None and abs(lb["solved"] - lower) > 1e-12 * max(1.0, abs(lower)):
+            out.append(f"<p>The solver's optimum, {lb['solved']:.6f}, was scaled down by the largest yield ratio "
+                       "found on re-check, so that the field lies inside the exact criterion.</p>")
+    out.append(_LOWER_METHOD)
+    chk = lb["check"]
+    if chk is not None:
+        out.append("<h3>Re-check of the moment field</h3><table id=\"lower-bound-check\"><tr><th>quantity</th>"
+                   "<th>value</th><th>unit</th><th>meaning</th></tr>")
+        for name, value in chk.items():
+            unit, fmt, meaning = _CHECK_ROWS.get(name, ("", ".3e", ""))
+            out.append(f"<tr><td><code>{_e(name)}</code></td>{_num(value, fmt)}<td>{unit}</td>"
+                       f"<td>{meaning}</td></tr>")
+        out.append("</table>")
+        if lower is not None:
+            # When the optimum was scaled down to the lower bound, so was the field: its ratio with it.
+            ratio = chk["yield_ratio"] * (lower / lb["solved"] if lb["solved"] else 1.0)
+            if chk["relative"] <= EQUILIBRIUM_RTOL and ratio <= 1.0 + 1e-12:
+                out.append(f"<p class=\"ok\">The re-check passes: the field is in equilibrium to "
+                           f"{chk['relative']:.1e} relative (limit {EQUILIBRIUM_RTOL:g}) and, at the lower bound, "
+                           f"inside the yield criterion (largest ratio {ratio:.9f}).</p>")
+            else:
+                out.append("<p class=\"warn\">The re-check DOES NOT PASS: do not use this lower bound.</p>")
+        out.append(f"<p class=\"meta\">Solver status {_e(lb['status'])}, {lb['seconds']:.2f} s.</p>")
+    if lower is not None and res.lower_bound.field is not None:
+        uri = _figure_svg(plot.plot_utilisation, res)
+        out.append(f"<figure><img alt=\"Utilisation of the lower-bound moment field\" src=\"{uri}\">"
+                   f"<figcaption>Figure {figure}. Utilisation of the lower-bound moment field. Yield ratio of the "
+                   "moments at the corners and side mid-points of each triangle (0: no moment, 1: at the "
+                   "capacity), shaded linearly between them; where it is 1 the field is at yield.</figcaption>"
+                   "</figure>")
+    return "\n".join(out)
+
+
 def build_report(model: Model, results_by_resolution: Mapping[str, Result], primary: str | None = None,
                  generated: str | None = None) -> str:
     """HTML text of the calculation record.
@@ -386,7 +503,8 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
     n_sag = int(np.sum(np.asarray(yl.sagging, bool)))
     p.append(f"<p>{len(yl)} active yield lines: {n_sag} sagging, {len(yl) - n_sag} hogging "
              f"({int(np.sum(np.asarray(yl.at_support, bool)))} of them along supported edges).</p>")
-    for k, (name, uri, caption) in enumerate(_drawings(res)):
+    drawings = _drawings(res)
+    for k, (name, uri, caption) in enumerate(drawings):
         p.append(f"<figure><img alt=\"{_e(name)}\" src=\"{uri}\"><figcaption>Figure {k + 1}. {_e(name)}. "
                  f"{_e(caption)}</figcaption></figure>")
 
@@ -452,8 +570,11 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
                if agrees else "<p class=\"warn\">The check DOES NOT AGREE: do not use this result.</p>")
     p.append(verdict)
 
-    # 7. cautions again, at the end
-    p.append("<h2>7. Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul>")
+    # 7. lower bound
+    p.append(_lower_bound_section(res, 7, len(drawings) + 1))
+
+    # 8. cautions again, at the end
+    p.append("<h2>8. Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul>")
     p.append("<p>Shear, punching shear, deflection, ductility and detailing are not checked by this record "
              "and must be checked separately.</p>")
     p.append("</body></html>\n")

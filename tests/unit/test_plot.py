@@ -6,10 +6,13 @@ solved at the "coarse" resolution.
 """
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 import pytest
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.collections import TriMesh
 from matplotlib.contour import ContourSet
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
@@ -18,11 +21,14 @@ from mpl_toolkits.mplot3d.art3d import Poly3DCollection
 from hingeline import solve
 from hingeline.model import model_from_toml
 from hingeline.plot import (
+    NO_LOWER_BOUND_TEXT,
     SCALE_BAR_GID,
+    UTILISATION_LABEL,
     W_RATIO_LABEL,
     plot_deflection,
     plot_deflection_3d,
     plot_pattern,
+    plot_utilisation,
     scale_bar_length,
 )
 
@@ -180,3 +186,50 @@ resolution = "coarse"
     labels = {a.get_label() for a in [*ax.patches, *ax.lines]}
     assert {"_support", "_zone", "_load_patch", "_line_load", "_point_load"} <= labels
     assert "band" in {t.get_text() for t in ax.texts}
+
+
+def test_plot_utilisation_shades_the_yield_ratio_with_a_colour_bar(result):
+    lb = result.lower_bound
+    assert lb is not None and lb.load_factor is not None and lb.field is not None
+    fig = new_figure()
+    ax = fig.add_subplot()
+    assert plot_utilisation(result, ax=ax) is ax
+    meshes = [c for c in ax.collections if isinstance(c, TriMesh)]
+    assert len(meshes) == 1
+    values = np.asarray(meshes[0].get_array())
+    t = len(lb.field.triangles)
+    assert values.shape == (6 * t,)                             # the 6 node points of every triangle
+    assert len(meshes[0].get_paths()) == 4 * t                  # each triangle split into 4
+    assert values.min() >= 0.0 and values.max() <= 1.0
+    # the lower bound's optimum uses the full capacity somewhere, and the node values lie
+    # within the control values the re-check bounds (a quadratic stays in their hull)
+    assert values.max() > 0.95
+    assert values.max() <= lb.check.yield_ratio + 1e-9
+    assert values.min() < 0.5                                   # not a uniform wash
+    colour_bars = [a for a in fig.axes if a is not ax]
+    assert len(colour_bars) == 1 and colour_bars[0].get_ylabel() == UTILISATION_LABEL
+    title = ax.get_title()
+    assert f"lower bound {lb.load_factor:.4f}" in title
+    assert f"upper bound {result.load_factor:.4f}" in title
+    assert f"gap {100 * result.gap:.1f} %" in title
+    assert scale_bar_texts(ax) == ["1 m"]
+    assert {"_edge_simple", "_edge_continuous", "_edge_free", "_opening_edge"} <= {c.get_label() for c in ax.collections}
+    fig.canvas.draw()
+
+
+def test_plot_utilisation_without_lower_bound_draws_the_plan_and_says_so(result):
+    bare = dataclasses.replace(result, lower_bound=None)
+    ax = plot_utilisation(bare)
+    fig = ax.figure
+    assert isinstance(fig, Figure) and len(fig.axes) == 1      # no colour bar
+    assert not [c for c in ax.collections if isinstance(c, TriMesh)]
+    texts = [t for t in ax.texts if NO_LOWER_BOUND_TEXT in t.get_text()]
+    assert len(texts) == 1 and texts[0].get_ha() == "center" and texts[0].get_va() == "center"
+    assert "lower bound not computed" in ax.get_title()
+    assert {"_edge_simple", "_edge_continuous", "_edge_free"} <= {c.get_label() for c in ax.collections}
+    fig.canvas.draw()
+    # a lower-bound stage that found no field: its reason is shown too
+    failed = dataclasses.replace(result, lower_bound=dataclasses.replace(
+        result.lower_bound, load_factor=None, field=None, reason="solver stopped"))
+    ax = plot_utilisation(failed)
+    assert any(NO_LOWER_BOUND_TEXT in t.get_text() and "solver stopped" in t.get_text() for t in ax.texts)

@@ -26,6 +26,14 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
         p(f"  case {name!r:30s} load factor {lf:.4f}{'  <- governs' if name == result.case else ''}")
     governing = f" (load case {result.case!r})" if result.case else ""
     p(f"load factor = {result.load_factor:.4f}{governing}  (upper bound: collapse factor of the mechanism found)")
+    lb = result.lower_bound
+    if lb is not None and lb.load_factor is not None:
+        p(f"lower bound = {lb.load_factor:.4f}  (lower-bound theorem: a moment field in equilibrium and "
+          f"inside the capacities); gap {100 * result.gap:.2f} % of the load factor")
+        p(f"  lower bound field re-checked: equilibrium residual {lb.check.relative:.1e} (relative), "
+          f"largest yield ratio {lb.check.yield_ratio:.8f} (<= 1 inside the capacities); {lb.seconds:.2f} s")
+    elif lb is not None:
+        p(f"lower bound: none ({lb.reason})")
     p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
     p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
       f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")

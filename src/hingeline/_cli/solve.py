@@ -37,6 +37,8 @@ def add_args(parser: argparse.ArgumentParser) -> None:
                         help="mesh resolution; overrides [analysis] resolution of the model file")
     parser.add_argument("--mesh-size", type=positive_number("--mesh-size", "m"), default=None, metavar="M",
                         help="explicit element size in m; overrides resolution")
+    parser.add_argument("--no-lower-bound", action="store_true",
+                        help="skip the lower bound (statically admissible moment field); saves its solve time")
 
 
 def write_files(result: Result, outdir: Path) -> list[Path]:
@@ -56,7 +58,8 @@ def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
     from ..solve import solve_cases  # imported late: reading the model needs no solver
 
-    result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size)
+    result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size,
+                         lower_bound=not args.no_lower_bound)
     paths = write_files(result, args.outdir)
     report.print_summary(result, paths)
     return 0
