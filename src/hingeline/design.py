@@ -11,9 +11,14 @@ where lambda_all is the ordinary load factor of the slab under the single load
 set (target x factored loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
 scale truly needed: a finer resolution usually raises it.
 
+The same solve gives a lower bound lambda_lower <= lambda_all (lowerbound.py); by the
+lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
+(moments and loads both scale with s). The scale truly needed lies in [s, s_safe].
+
 With a bar schedule, each layer's spacing is then reduced (in 25 mm steps, the
 diameter kept, or the next diameter up if needed) until its EN 1992-1-1 moment
-reaches s times its present value.
+reaches s_safe times its present value (s when there is no lower bound): proposals
+are proven adequate, not only adequate against the mechanism found.
 """
 from __future__ import annotations
 
@@ -41,13 +46,20 @@ class LayerProposal:
 
 @dataclass(frozen=True, eq=False)
 class DesignResult:
-    """scale: factor on all capacities for the load factor to equal `target`;
-    result: the solve under target x factored + held loads (its mechanism governs)."""
+    """scale: factor on all capacities for the load factor to equal `target` (the true scale
+    needed is at or above it); safe_scale: a factor proven enough by the lower-bound theorem
+    (None without a lower bound); result: the solve under target x factored + held loads."""
 
     scale: float
     target: float
     result: Result
     proposals: tuple[LayerProposal, ...] = ()
+    safe_scale: float | None = None
+
+    @property
+    def proposal_scale(self) -> float:
+        """The scale the bar proposals are made for: safe_scale when known, else scale."""
+        return self.scale if self.safe_scale is None else self.safe_scale
 
 
 def required_scale(model: Model, target: float = 1.0, resolution: str | None = None) -> DesignResult:
@@ -58,11 +70,13 @@ def required_scale(model: Model, target: float = 1.0, resolution: str | None = N
                   for ld in model.loads)
     result = solve(replace(model, loads=loads), resolution=resolution)
     scale = 1.0 / result.load_factor
+    lower = result.lower_bound.load_factor if result.lower_bound is not None else None
+    safe = None if not lower else 1.0 / lower
     proposals = ()
     if model.capacity.bars:
-        proposals = tuple(_propose(model, bar, lc.moment * scale)
+        proposals = tuple(_propose(model, bar, lc.moment * (scale if safe is None else safe))
                           for bar, lc in zip(model.capacity.bars, model.capacity.layers))
-    return DesignResult(scale, target, result, proposals)
+    return DesignResult(scale, target, result, proposals, safe)
 
 
 def _propose(model: Model, bar: eurocode.BarLayer, required: float) -> LayerProposal:

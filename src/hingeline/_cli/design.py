@@ -24,16 +24,29 @@ def run(args: argparse.Namespace) -> int:
     from ..design import required_scale  # imported late: reading the model needs no solver
 
     d = required_scale(model, target=args.target, resolution=args.resolution)
-    verdict = "adequate" if d.scale <= 1 else "NOT adequate"
+    if d.scale > 1:
+        verdict = f"NOT adequate: short by {(d.scale - 1) * 100:.1f} % at least"
+    elif d.safe_scale is not None and d.safe_scale <= 1:
+        verdict = f"adequate, proven by the lower bound: spare {(1 - d.safe_scale) * 100:.1f} % at least"
+    elif d.safe_scale is not None:
+        verdict = ("not decided at this resolution: adequate against the mechanism found, not proven by "
+                   "the lower bound; solve at a finer resolution")
+    else:
+        verdict = f"adequate against the mechanism found (spare {(1 - d.scale) * 100:.1f} %), not proven"
     print(f"{model.title or args.model}")
-    print(f"capacity scale for load factor {d.target:g} = {d.scale:.4f}  "
-          f"(present reinforcement is {verdict}: {'spare' if d.scale <= 1 else 'short by'} "
-          f"{abs(1 - d.scale) * 100:.1f} %)")
+    print(f"capacity scale for load factor {d.target:g} = {d.scale:.4f}  (present reinforcement is {verdict})")
+    if d.safe_scale is not None:
+        print(f"  proven enough   scale {d.safe_scale:.4f} (lower-bound theorem: a moment field in equilibrium "
+              f"inside the scaled capacities exists); the scale truly needed lies between "
+              f"{d.scale:.4f} and {d.safe_scale:.4f}")
     cap = model.capacity
     print(f"  sagging needed  {cap.sagging[0] * d.scale:.2f} / {cap.sagging[1] * d.scale:.2f} kNm/m "
           f"(bar directions 1 / 2; present {cap.sagging[0]:.2f} / {cap.sagging[1]:.2f})")
     print(f"  hogging needed  {cap.hogging[0] * d.scale:.2f} / {cap.hogging[1] * d.scale:.2f} kNm/m "
           f"(present {cap.hogging[0]:.2f} / {cap.hogging[1]:.2f})")
+    if d.proposals:
+        which = "proven-enough" if d.safe_scale is not None else "mechanism's"
+        print(f"  bar proposals for the {which} scale {d.proposal_scale:.4f}:")
     for p in d.proposals:
         if math.isnan(p.spacing):
             print(f"  {p.name:9s} needs {p.required:.2f} kNm/m: no bar of 32 mm or less at 50 mm or more fits")
@@ -42,7 +55,7 @@ def run(args: argparse.Namespace) -> int:
                   f"give {p.moment:.2f} kNm/m (EN 1992-1-1)")
     for w in (*d.result.warnings,):
         print(f"  warning     {w}")
-    print("  caution     upper-bound method: the true scale needed is at or ABOVE this value (a finer "
-          "resolution usually raises it); shear, punching, deflection, ductility and detailing not "
+    print("  caution     the mechanism's scale is from an upper-bound method: the true scale needed is at "
+          "or ABOVE it (a finer resolution usually raises it); shear, punching, deflection, ductility and detailing not "
           "checked; have a qualified engineer review it under local codes")
     return 0
