@@ -209,6 +209,8 @@ def test_cli_report_writes_page_and_convergence_table(tmp_path, capsys):
     conv = _rows(v, "convergence")                  # coarse and normal, one load factor each
     assert len(conv) == 2
     assert all(np.isfinite(r[0]) and r[0] > 0 for r in conv)
+    # issue 4: each resolution's lower bound sits beside its load factor, and below it
+    assert all(0 < r[1] <= r[0] for r in conv)
     assert list(out.iterdir()) == [page]            # no temporary files left
 
 

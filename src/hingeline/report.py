@@ -131,13 +131,16 @@ def energy_balance(model: Model, result: Result) -> dict:
 
 
 def convergence_rows(results: Mapping[str, Result]) -> list[dict]:
-    """One row per solve, coarse -> fine: label, load_factor, nodes, slab_nodes,
-    candidate_lines, lp_lines, active_lines, rounds, seconds."""
+    """One row per solve, coarse -> fine: label, load_factor, lower_bound (None when not
+    computed or not found), nodes, slab_nodes, candidate_lines, lp_lines, active_lines,
+    rounds, seconds."""
     rows = []
     for label in _ordered(results):
         r = results[label]
         s = r.stats
-        rows.append({"label": label, "load_factor": float(r.load_factor), "nodes": s.nodes,
+        lower = None if r.lower_bound is None else r.lower_bound.load_factor
+        rows.append({"label": label, "load_factor": float(r.load_factor),
+                     "lower_bound": None if lower is None else float(lower), "nodes": s.nodes,
                      "slab_nodes": s.slab_nodes, "candidate_lines": s.candidate_lines,
                      "lp_lines": s.lp_lines, "active_lines": len(r.yield_lines), "rounds": s.rounds,
                      "seconds": float(s.seconds), "mesh_size": float(s.mesh_size)})
@@ -540,12 +543,17 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
     p.append("<h2>5. Resolution and convergence</h2>")
     p.append("<p>The same model solved on meshes of increasing fineness. Nodes include the fill beyond "
              "free edges and in openings; lines are candidates / in the final linear program / active.</p>")
+    p.append("<p>Each solve also gives a lower bound (section 7) on the same mesh: the true collapse "
+             "factor lies between the two columns; the bracket usually narrows as the mesh is refined.</p>")
     p.append("<table id=\"convergence\"><tr><th>resolution</th><th>element size m</th><th>load factor</th>"
-             "<th>nodes (on slab)</th><th>lines cand. / LP / active</th><th>LP rounds</th><th>time s</th></tr>")
+             "<th>lower bound</th><th>nodes (on slab)</th><th>lines cand. / LP / active</th><th>LP rounds</th>"
+             "<th>time s</th></tr>")
     for r in rows:
         mark = " (reported)" if r["label"] == primary else ""
         p.append(f"<tr><td>{_e(r['label'])}{mark}</td><td class=\"num\">{r['mesh_size']:.3f}</td>"
-                 f"{_num(r['load_factor'], '.4f')}<td class=\"num\">{r['nodes']} ({r['slab_nodes']})</td>"
+                 f"{_num(r['load_factor'], '.4f')}"
+                 + (_num(r["lower_bound"], ".4f") if r["lower_bound"] is not None else "<td>–</td>")
+                 + f"<td class=\"num\">{r['nodes']} ({r['slab_nodes']})</td>"
                  f"<td class=\"num\">{r['candidate_lines']} / {r['lp_lines']} / {r['active_lines']}</td>"
                  f"<td class=\"num\">{r['rounds']}</td><td class=\"num\">{r['seconds']:.2f}</td></tr>")
     p.append("</table>")
