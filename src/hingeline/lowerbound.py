@@ -50,6 +50,7 @@ from scipy import sparse
 
 from .geometry import (FACE_PINNED, FREE, HOGGING_SUPPORT, OPENING, SIMPLE, SUPPORTED, Domain,
                        segment_distance)
+from .errors import SolverError
 from .model import AreaLoad, LineLoad, Model, PointLoad
 
 log = logging.getLogger(__name__)
@@ -159,7 +160,7 @@ class Sides:
 
     tri, local: (s,) triangle and local side index (0: vertices 0-1, 1: 1-2, 2: 2-0).
     a, b: (s,) global nodes at its start and end (counter-clockwise round the triangle).
-    normal, tangent: (s, 2) outward unit normal and unit tangent from a to b.
+    normal, tangent: (s, 2) outward unit normal and unit tangent from a to b; length: (s,) m.
     partner: (s,) index of the same side seen from the neighbouring triangle, -1 on the boundary.
     kind: (s,) boundary kind code (geometry.py) of boundary sides, -1 inside.
     fixity: (s,) hogging share of continuous edges (1 elsewhere).
@@ -207,7 +208,8 @@ def triangle_sides(nodes: np.ndarray, tri: np.ndarray, domain: Domain, model: Mo
         dist = segment_distance(mid, domain.edges)
         near = dist.argmin(axis=1)
         if np.any(dist[np.arange(len(bnd)), near] > 1e-6 * domain.scale):
-            raise ValueError("a boundary side of the slab mesh lies on no slab edge (mesh and domain disagree)")
+            raise SolverError("lower bound: a boundary side of the slab mesh lies on no slab edge (mesh and "
+                              "domain disagree); report this model to the developers")
         kind[bnd] = domain.edge_kind[near]
         fixity[bnd] = domain.edge_fixity[near]
 
@@ -295,11 +297,16 @@ class _Rows:
     def add(self, cols: np.ndarray, vals: np.ndarray, rhs) -> None:
         """cols, vals: (k, w) entries of k new rows; rhs: (k,) or a scalar."""
         k = len(cols)
-        self.r.append(np.repeat(np.arange(self.n, self.n + k), cols.shape[1]))
-        self.c.append(np.asarray(cols).ravel())
-        self.v.append(np.asarray(vals, float).ravel())
-        self.rhs.append(np.broadcast_to(np.asarray(rhs, float), (k,)))
-        self.n += k
+        self.add_triplets(np.repeat(np.arange(k), cols.shape[1]), np.asarray(cols).ravel(),
+                          np.asarray(vals, float).ravel(), np.broadcast_to(np.asarray(rhs, float), (k,)))
+
+    def add_triplets(self, row: np.ndarray, col: np.ndarray, val: np.ndarray, rhs: np.ndarray) -> None:
+        """len(rhs) new rows with entries (row, col, val), row counted from 0 for the first new row."""
+        self.r.append(row + self.n)
+        self.c.append(col)
+        self.v.append(val)
+        self.rhs.append(rhs)
+        self.n += len(rhs)
 
     def matrix(self) -> tuple[sparse.csr_matrix, np.ndarray]:
         if not self.n:
@@ -324,14 +331,13 @@ class ConeProgram:
     cone: sparse.csr_matrix
     cone_rhs: np.ndarray
     lam: int
-    sides: Sides
 
 
 @dataclass(frozen=True, eq=False)
 class LowerBoundSolution:
     """load_factor: the lower bound (None when no admissible field was found).
-    field: the moment field (node values), or None. rows, cols: size of the LP.
-    seconds: time of assembly and solve. status: HiGHS model status in words."""
+    field: the moment field (node values), or None. rows, cols: size of the cone program.
+    seconds: time of assembly and solve. status: Clarabel's status in words."""
 
     load_factor: float | None
     field: MomentField | None
@@ -349,7 +355,8 @@ def point_loads_at_nodes(model: Model, nodes: np.ndarray, tol: float) -> np.ndar
             d = np.hypot(*(nodes - np.asarray(load.at, float)).T)
             k = int(d.argmin())
             if d[k] > tol:
-                raise ValueError(f"point load {load.name} is not on a mesh node")
+                raise SolverError(f"lower bound: point load {load.name} is not on a mesh node; report this model "
+                                  "to the developers")
             out[k, 0 if load.factored else 1] += load.value
     return out
 
@@ -433,15 +440,9 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
     row_of = np.full(len(nodes), -1)
     row_of[used] = np.arange(len(used))
     pts = point_loads_at_nodes(model, nodes, 1e-7 * domain.scale)
-    corner = sparse.csr_matrix((vals[keep].ravel(), (np.repeat(row_of[node[keep]], 3), cols[keep].ravel())),
-                               shape=(len(used), ncol)).tolil()
-    corner[:, lam] = pts[used, 0][:, None]
-    corner = corner.tocoo()
-    rows.r.append(corner.row + rows.n)
-    rows.c.append(corner.col)
-    rows.v.append(corner.data)
-    rows.rhs.append(-pts[used, 1])
-    rows.n += len(used)
+    rows.add_triplets(np.concatenate([np.repeat(row_of[node[keep]], 3), np.arange(len(used))]),
+                      np.concatenate([cols[keep].ravel(), np.full(len(used), lam)]),
+                      np.concatenate([vals[keep].ravel(), pts[used, 0]]), -pts[used, 1])
 
     # Yield at every control value: per branch (u, v, w) = const + K (m_1, m_2, m_12) in a cone,
     # positive branch a = m_p1 - m_1, b = m_p2 - m_2; negative a = m_n1 + m_1, b = m_n2 + m_2.
@@ -460,7 +461,7 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
         rhs.append(const.ravel())
     eq, eq_rhs = rows.matrix()
     iq, iq_rhs = ineq.matrix()
-    return ConeProgram(eq, eq_rhs, iq, iq_rhs, sparse.vstack(blocks).tocsr(), np.concatenate(rhs), lam, sd)
+    return ConeProgram(eq, eq_rhs, iq, iq_rhs, sparse.vstack(blocks).tocsr(), np.concatenate(rhs), lam)
 
 
 def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles: np.ndarray) -> LowerBoundSolution:
@@ -483,6 +484,7 @@ def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles
     seconds = time.perf_counter() - t0
     word = str(sol.status)
     log.info("lower bound: %d rows, %d columns, %s, %.2f s", A.shape[0], ncol, word, seconds)
+    # "AlmostSolved" (reduced accuracy) is kept: fieldcheck.py decides whether the field holds.
     if word not in ("Solved", "AlmostSolved"):
         return LowerBoundSolution(None, None, A.shape[0], ncol, seconds, word)
     x = np.asarray(sol.x)

@@ -369,7 +369,7 @@ _CHECK_ROWS = {
     "relative": ("–", ".3e", "largest of the above, each divided by its scale (load, capacity, total load)"),
     "yield_ratio": ("–", ".9f", "largest yield ratio at the control values, which bound the field (≤ 1: inside "
                          "the yield criterion everywhere)"),
-    "yield_ratio_points": ("–", ".9f", "largest yield ratio at 10 points inside each triangle"),
+    "yield_ratio_points": ("–", ".9f", "largest yield ratio at 10 grid points of each triangle (corners included)"),
 }
 
 _LOWER_METHOD = (
