@@ -196,7 +196,9 @@ def result_to_dict(result: Result) -> dict:
         "warnings": [str(w) for w in result.warnings],
         "cautions": list(CAUTIONS),
         "case": result.case,
-        "cases": [{"name": n, "load_factor": _float(lf)} for n, lf in result.cases],
+        "cases": [{"name": n, "load_factor": _float(lf),
+                   "lower_bound": None if lb is None else _float(lb)}
+                  for (n, lf), lb in zip(result.cases, result.case_lower_bounds or (None,) * len(result.cases))],
         "lower_bound": _lower_bound_to_dict(result),
     }
 

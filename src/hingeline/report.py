@@ -488,8 +488,10 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
              + "</p>")
     if res.case:
         p.append(f"<p>Load cases solved (the lowest governs; the record below is for "
-                 f"<b>{_e(res.case)}</b>):</p><table><tr><th>case</th><th>load factor</th></tr>"
-                 + "".join(f"<tr><td>{_e(n)}</td><td class=\"num\">{v:.4f}</td></tr>" for n, v in res.cases)
+                 f"<b>{_e(res.case)}</b>):</p><table><tr><th>case</th><th>load factor</th><th>lower bound</th></tr>"
+                 + "".join(f"<tr><td>{_e(n)}</td><td class=\"num\">{v:.4f}</td>"
+                           + (f"<td class=\"num\">{lb:.4f}</td>" if lb is not None else "<td>–</td>") + "</tr>"
+                           for (n, v), lb in zip(res.cases, res.case_lower_bounds or (None,) * len(res.cases)))
                  + "</table>")
     better = [r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary]
     if better:

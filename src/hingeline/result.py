@@ -130,6 +130,7 @@ class Result:
     case: str | None = None                       # load case of this result, when the model has cases
     cases: tuple[tuple[str, float], ...] = ()     # (case name, load factor) of every case solved
     lower_bound: LowerBound | None = None         # None when the lower bound was not asked for
+    case_lower_bounds: tuple[float | None, ...] = ()  # lower bound of each case in `cases` (None: none found)
 
     @property
     def gap(self) -> float | None:

@@ -157,8 +157,9 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
 def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None,
                 lower_bound: bool = True) -> Result:
     """Solve every load case of `model` (or the model itself when it has none) and return the
-    governing result: the case with the lowest load factor, carrying the table of all cases.
-    Its lower bound is that of the governing case."""
+    governing result: the case with the lowest load factor, carrying the table of all cases
+    with each case's lower bound (the slab carries every case at the smallest of them); the
+    result's own lower bound is that of the governing case."""
     if not model.cases:
         return solve(model, resolution, mesh_size, lower_bound)
     results = []
@@ -167,5 +168,6 @@ def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | 
         results.append((case.name, solve(model_for_case(model, case), resolution, mesh_size, lower_bound)))
     name, governing = min(results, key=lambda nr: nr[1].load_factor)
     table = tuple((n, r.load_factor) for n, r in results)
+    lowers = tuple(r.lower_bound.load_factor if r.lower_bound else None for _, r in results) if lower_bound else ()
     # The result keeps the case's own model (its loads), so its certificate re-checks as it is.
-    return replace(governing, case=name, cases=table)
+    return replace(governing, case=name, cases=table, case_lower_bounds=lowers)

@@ -22,8 +22,10 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     p = lambda *a: print(*a, file=out)  # noqa: E731
     if result.model.title:
         p(result.model.title)
-    for name, lf in result.cases:
-        p(f"  case {name!r:30s} load factor {lf:.4f}{'  <- governs' if name == result.case else ''}")
+    lowers = result.case_lower_bounds or (None,) * len(result.cases)
+    for (name, lf), lb in zip(result.cases, lowers):
+        lb_text = f"  lower bound {lb:.4f}" if lb is not None else ""
+        p(f"  case {name!r:30s} load factor {lf:.4f}{lb_text}{'  <- governs' if name == result.case else ''}")
     governing = f" (load case {result.case!r})" if result.case else ""
     p(f"load factor = {result.load_factor:.4f}{governing}  (upper bound: collapse factor of the mechanism found)")
     lb = result.lower_bound
