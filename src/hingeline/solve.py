@@ -131,6 +131,9 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
     sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
     if sol.load_factor is None:
         reason = f"the lower-bound solver stopped with status '{sol.status}'"
+        if "Infeasible" in sol.status:
+            reason = ("no moment field on this mesh carries the held (unfactored) loads within the capacities, "
+                      "so nothing can be proven even at load factor 0; a finer resolution may find one")
         warnings.append(f"no lower bound: {reason}")
         return LowerBound(None, None, None, None, sol.status, sol.seconds, reason)
     chk = check_field(model, domain, sol.field, sol.load_factor)

@@ -216,3 +216,15 @@ def test_isotropic_bound_does_not_depend_on_bar_angle():
     a, _ = lower(text, "coarse")
     b, _ = lower(turned, "coarse")
     assert a == pytest.approx(b, rel=1e-5)
+
+
+def test_held_load_beyond_the_provable_gives_a_reason_not_a_number():
+    # Held load 23.995 kPa on the simply supported square (collapse at 24 m/L^2, exact): the
+    # mechanism still has a small positive factor, but the coarse mesh's best static field stops
+    # at 23.9896 (measured), so no field carries the held load: no lower bound, and a reason.
+    m = model(SQUARE, "simple", extra='[[load]]\ntype = "area"\nvalue = 23.995\nfactored = false')
+    r = hingeline.solve(m)
+    assert 0 < r.load_factor < 0.01
+    assert r.lower_bound.load_factor is None and r.gap is None
+    assert "held (unfactored) loads" in r.lower_bound.reason
+    assert any(w.startswith("no lower bound") for w in r.warnings)
