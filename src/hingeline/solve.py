@@ -16,9 +16,9 @@ from .candidates import build_candidates
 from .certificate import check_mechanism
 from .errors import ModelError, SolverError, UnstableSlabError
 from .fieldcheck import check_field
-from .lowerbound import solve_lower_bound
 from .geometry import build_domain
 from .loadwork import island_rows, load_coefficients
+from .lowerbound import solve_lower_bound
 from .lp import solve_lp
 from .mechanism import build_mechanism, yield_lines
 from .mesh import mesh_domain, mesh_size_for
