@@ -44,7 +44,9 @@ def random_model(seed):
     return hingeline.parse_model(data)
 
 
-@pytest.mark.parametrize("seed", range(8))
+# Seed 79 made Triangle loop for ever (a fill-strip node a rounding error off a supported
+# edge, left unsplit by GEOS; mesh._split_at_points mends it).
+@pytest.mark.parametrize("seed", [*range(8), 79])
 def test_random_slab_certificate(seed):
     model = random_model(seed)
     try:

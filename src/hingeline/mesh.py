@@ -17,7 +17,7 @@ import numpy as np
 import shapely
 from shapely.geometry import LineString
 
-from .geometry import Domain, merge_points
+from .geometry import Domain, merge_points, segment_distance
 from .model import Model
 
 # Target number of nodes on the slab for each resolution word.
@@ -67,8 +67,33 @@ def _linework(domain: Domain, model: Model):
     pts, inv = merge_points(allp, domain.tol * 10)
     facets = inv[: 2 * len(segs)].reshape(-1, 2)
     facets = facets[facets[:, 0] != facets[:, 1]]
+    facets = _split_at_points(pts, facets, domain.tol * 10)
     facets = np.unique(np.sort(facets, axis=1), axis=0)
     return pts, facets
+
+
+def _split_at_points(pts: np.ndarray, facets: np.ndarray, tol: float) -> np.ndarray:
+    """Split every facet at the nodes lying on it (within tol, m) but not at its ends.
+
+    GEOS leaves such a node unsplit when it sits a rounding error off the segment (seen where
+    a fill strip ends on a supported edge at a re-entrant corner); Triangle then meets a node
+    on a facet and loops for ever printing "Internal error in insertvertex()"."""
+    d = segment_distance(pts, pts[facets])                              # (n, f)
+    own = np.arange(len(pts))[:, None]
+    d[(own == facets[None, :, 0]) | (own == facets[None, :, 1])] = np.inf
+    hit_p, hit_f = np.nonzero(d <= tol)
+    if not hit_p.size:
+        return facets
+    keep = np.ones(len(facets), bool)
+    keep[hit_f] = False
+    pieces = [facets[keep]]
+    for f in np.unique(hit_f):
+        a, b = facets[f]
+        on = hit_p[hit_f == f]
+        t = (pts[on] - pts[a]) @ (pts[b] - pts[a])
+        chain = np.concatenate([[a], on[np.argsort(t)], [b]])
+        pieces.append(np.stack([chain[:-1], chain[1:]], axis=1))
+    return np.concatenate(pieces)
 
 
 def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
