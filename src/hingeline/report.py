@@ -360,8 +360,8 @@ external work are recomputed from the deflected shape alone (section 6).</li>
 _CHECK_ROWS = {
     "equilibrium": ("kPa", ".3e", "largest residual of m<sub>x,xx</sub> + 2 m<sub>xy,xy</sub> + m<sub>y,yy</sub> + p "
                            "in a triangle"),
-    "moment_jump": ("kNm/m", ".3e", "largest jump of the normal moment m<sub>n</sub> across a side, or m<sub>n</sub> "
-                             "left on a free or simply supported edge"),
+    "moment_jump": ("kNm/m", ".3e", "largest jump of the normal moment m<sub>n</sub> across a side, or breach of an "
+                             "edge condition on m<sub>n</sub> (free, simple, continuous)"),
     "shear_jump": ("kN/m", ".3e", "largest imbalance of the Kirchhoff shear V<sub>n</sub> across a side, or on a "
                            "free edge"),
     "corner": ("kN", ".3e", "largest unbalanced corner force at a node off the supports"),
