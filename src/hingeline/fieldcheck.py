@@ -12,7 +12,8 @@ admissibility is evaluated at points:
   simple and pinned faces: m_n = 0; continuous and monolithic faces:
   -fixity m'_n <= m_n <= 0);
 - corner forces (kN) at every node off the supports;
-- the total area load on the triangles against the slab's own (shapely) area;
+- the total load the field carries (area loads on the triangles, line loads on their sides,
+  point loads at their nodes) against the loads of the model on the slab (shapely);
 - the exact yield criterion (Nielsen's, in the bar axes) as a ratio: the smallest s with
   the field inside s times the capacities, at the control values (which bound the field)
   and at 10 points of each triangle (a barycentric grid of step 1/3, corners included).
@@ -29,7 +30,7 @@ import shapely
 from .geometry import FACE_PINNED, FREE, HOGGING_SUPPORT, OPENING, SIMPLE, SUPPORTED, Domain
 from .lowerbound import (SIDES, MomentField, bar_rotation, control_values, element_capacities,
                          element_loads, hogging_normal, point_loads_at_nodes, triangle_sides, twice_area)
-from .model import AreaLoad, LineLoad, Model, PointLoad
+from .model import AreaLoad, LineLoad, Model
 
 # Relative size of the residuals accepted as "in equilibrium": the solver's tolerance is
 # about 1e-8 of the problem's scale.
@@ -43,7 +44,8 @@ class FieldCheck:
     """Largest residuals of the field (absolute, in their units) and the largest yield ratio.
 
     equilibrium: kPa; moment_jump: kNm/m (jumps of m_n and boundary m_n); shear_jump: kN/m
-    (jumps of V_n and free-edge V_n); corner: kN; load_total: kN (triangles against slab).
+    (jumps of V_n and free-edge V_n); corner: kN; load_total: kN (loads carried by the
+    field's triangles, sides and nodes against the model's loads on the slab).
     relative: the largest of these, each divided by its scale (load intensity, capacity,
     capacity / element size, capacity, total load).
     yield_ratio: largest ratio at the control values (<= 1: inside the criterion everywhere);
@@ -158,23 +160,28 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     eq = H[:, 0, 0] + H[:, 1, 1] + 2 * H[:, 2, 2] + load_factor * pf + ph
     area = 0.5 * np.abs(twice_area(p))
 
-    # Total area load on the triangles against the slab itself; and the total of all loads (kN),
-    # which sets the scale of the residuals.
-    total, total_mesh = 0.0, float(np.sum((load_factor * pf + ph) * area))
-    force = 0.0
+    # The model's loads on the slab (kN), from shapely alone: they set the scale of the residuals
+    # and are compared with what the field carries (a load missed by the mesh would show here).
+    total, force = 0.0, 0.0
     for load in model.loads:
         scale = load_factor if load.factored else 1.0
         if isinstance(load, AreaLoad):
             region = domain.slab if load.region is None else shapely.Polygon(load.region).intersection(domain.slab)
-            total += scale * load.value * region.area
-            force += scale * load.value * region.area
+            amount = load.value * region.area
         elif isinstance(load, LineLoad):
-            force += scale * load.value * shapely.LineString(load.path).length
-        elif isinstance(load, PointLoad):
-            force += scale * load.value
+            amount = load.value * shapely.LineString(load.path).intersection(domain.slab).length
+        else:
+            amount = load.value if shapely.covers(domain.slab, shapely.Point(load.at)) else 0.0
+        total += scale * amount
+        force += scale * abs(amount)
 
     sd = triangle_sides(nodes, tri, domain, model)
     q = load_factor * sd.line_load[:, 0] + sd.line_load[:, 1]
+    pts_load = point_loads_at_nodes(model, nodes, 1e-7 * domain.scale)
+    in_mesh = np.zeros(len(nodes), bool)
+    in_mesh[tri.ravel()] = True
+    carried = (float(np.sum((load_factor * pf + ph) * area)) + float(np.sum(q * sd.length))
+               + float(np.sum((load_factor * pts_load[:, 0] + pts_load[:, 1])[in_mesh])))
     f = np.linspace(0.0, 1.0, 5)
     k = len(sd.a)
     pts = nodes[sd.a][:, None] + f[None, :, None] * (nodes[sd.b] - nodes[sd.a])[:, None]   # (s, 5, 2)
@@ -207,10 +214,7 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     corner = np.zeros(len(nodes))
     np.add.at(corner, sd.b, arrive)
     np.add.at(corner, sd.a, -leave)
-    pts_load = point_loads_at_nodes(model, nodes, 1e-7 * domain.scale)
     corner += load_factor * pts_load[:, 0] + pts_load[:, 1]
-    in_mesh = np.zeros(len(nodes), bool)
-    in_mesh[tri.ravel()] = True
     corner = np.abs(corner[in_mesh & ~supported])
 
     # A zero capacity (no top bars) is floored at CAPACITY_FLOOR of the largest: the solver meets
@@ -230,7 +234,7 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     p_ref = max(force / domain.slab.area, 1e-12)
     h_ref = float(np.median(sd.length))
     resid = dict(equilibrium=float(np.abs(eq).max()), moment_jump=top(mj), shear_jump=top(vj),
-                 corner=top([corner]), load_total=abs(total_mesh - total))
+                 corner=top([corner]), load_total=abs(carried - total))
     relative = max(resid["equilibrium"] / p_ref, resid["moment_jump"] / m_ref,
                    resid["shear_jump"] * h_ref / m_ref, resid["corner"] / m_ref,
                    resid["load_total"] / max(force, 1e-12))

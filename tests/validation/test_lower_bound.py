@@ -228,3 +228,23 @@ def test_held_load_beyond_the_provable_gives_a_reason_not_a_number():
     assert r.lower_bound.load_factor is None and r.gap is None
     assert "held (unfactored) loads" in r.lower_bound.reason
     assert any(w.startswith("no lower bound") for w in r.warnings)
+
+
+def test_check_notices_a_load_the_field_does_not_carry():
+    # The exact field of the simply supported square at 24 (Nielsen & Hoang - recalled, above)
+    # checked against the same slab with an extra 1 kN/m line load: the field's Kirchhoff shear
+    # is continuous where the load needs a jump of 1 kN/m, so the re-check fails; the mesh does
+    # carry the load on its sides (load_total 0: nothing of the model's loads is lost).
+    m = model(SQUARE, "simple", extra='[[load]]\ntype = "line"\nvalue = 1.0\nfactored = false\n'
+                                         'path = [[0.25, 0.5], [0.75, 0.5]]')
+    d, nodes, tri = _mesh(m)
+    check = check_field(m, d, MomentField(nodes, tri, exact_square_field(nodes, tri)), 24.0)
+    assert check.shear_jump == pytest.approx(1.0, rel=1e-6)
+    assert check.load_total == pytest.approx(0.0, abs=1e-9)
+    assert not check.in_equilibrium
+    # A mesh without sides along the load's path (here: the plain square's mesh) cannot carry it
+    # at all: the missing 0.5 kN shows as load_total.
+    d0, nodes0, tri0 = _mesh(model(SQUARE, "simple"))
+    lost = check_field(m, d0, MomentField(nodes0, tri0, exact_square_field(nodes0, tri0)), 24.0)
+    assert lost.load_total == pytest.approx(0.5, rel=1e-9)
+    assert not lost.in_equilibrium
