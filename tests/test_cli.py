@@ -8,6 +8,7 @@ two tests run the real solver end to end.
 from __future__ import annotations
 
 import json
+from importlib import resources
 import math
 import subprocess
 import sys
@@ -284,6 +285,30 @@ def test_demo_end_to_end_with_solver(tmp_path, capsys):
     lb = data["lower_bound"]["load_factor"]
     assert 0 < lb <= lf and f"lower bound = {lb:.4f}" in out
     assert (tmp_path / "demo" / "utilisation.png").stat().st_size > 10_000
+
+    # `hingeline verify` re-checks the written result from the files alone, and catches tampering:
+    # a stored load factor or lower bound that its mechanism / moment field does not support.
+    demo_model = str(resources.files("hingeline") / "data" / "demo.toml")
+    result_json = tmp_path / "demo" / "result.json"
+    capsys.readouterr()
+    assert main(["verify", demo_model, str(result_json)]) == 0
+    assert "the stored result re-checks" in capsys.readouterr().out
+    for key, change in ((("load_factor",), 1.01), (("lower_bound", "load_factor"), 1.05)):
+        bad = json.loads(result_json.read_text(encoding="utf-8"))
+        target = bad
+        for k in key[:-1]:
+            target = target[k]
+        target[key[-1]] *= change
+        (tmp_path / "bad.json").write_text(json.dumps(bad), encoding="utf-8")
+        assert main(["verify", demo_model, str(tmp_path / "bad.json")]) == 1
+        assert "does NOT re-check" in capsys.readouterr().out
+    bad = json.loads(result_json.read_text(encoding="utf-8"))
+    bad["lower_bound"]["field"]["moments"][0][0][0] += 1.0      # one moment value off by 1 kNm/m
+    (tmp_path / "bad.json").write_text(json.dumps(bad), encoding="utf-8")
+    assert main(["verify", demo_model, str(tmp_path / "bad.json")]) == 1
+    (tmp_path / "bad.json").write_text("{not json", encoding="utf-8")
+    assert main(["verify", demo_model, str(tmp_path / "bad.json")]) == 2
+    assert "bad.json" in capsys.readouterr().err
 
 
 def test_solve_end_to_end_with_solver(tmp_path, capsys):

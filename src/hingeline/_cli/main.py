@@ -1,6 +1,6 @@
 """Entry point of the `hingeline` command: argument parsing, logging, error mapping.
 
-Exit codes: 0 success; 2 bad input (model errors, unstable slab, outputs that
+Exit codes: 0 success; 1 `verify` found a stored result that does not re-check; 2 bad input (model errors, unstable slab, outputs that
 cannot be written, bad command-line arguments); 3 solver failure.
 """
 from __future__ import annotations
@@ -10,7 +10,7 @@ import logging
 import sys
 
 from ..errors import HingelineError, SolverError
-from . import check, demo, design, record, solve
+from . import check, demo, design, record, solve, verify
 
 #: Subcommand name -> module with add_args(parser) and run(args) -> int.
 COMMANDS = {
@@ -19,6 +19,7 @@ COMMANDS = {
     "report": record,
     "check": check,
     "design": design,
+    "verify": verify,
 }
 
 EXIT_OK = 0

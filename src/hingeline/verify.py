@@ -1,0 +1,100 @@
+"""Re-check a written result from the files alone: the model file and OUTDIR/result.json.
+
+For a checking engineer (and for the tests): nothing is solved. The mechanism stored in
+result.json is re-checked by the work equation (certificate.py), and the lower-bound moment
+field, when present, by fieldcheck.py; both from the model and the stored numbers only.
+
+Units: m, kN, kNm/m; load factors dimensionless.
+"""
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from .certificate import check_mechanism
+from .errors import ModelError
+from .fieldcheck import FieldCheck, check_field
+from .geometry import build_domain
+from .lowerbound import MomentField
+from .model import Model, model_for_case
+from .result import CertificateCheck, Mechanism
+
+# Relative agreement required between a stored load factor and its re-check.
+RTOL = 1e-6
+
+
+@dataclass(frozen=True)
+class Verification:
+    """upper: load factor stored; upper_check: CertificateCheck of the stored mechanism;
+    lower: lower bound stored (None if none); lower_check: FieldCheck of the stored field at
+    the stored solver optimum `solved` (None without a field); proven: the load factor the
+    field proves (solved / max(1, yield ratio) when in equilibrium, else None)."""
+
+    upper: float
+    upper_check: CertificateCheck
+    lower: float | None
+    solved: float | None
+    lower_check: FieldCheck | None
+    proven: float | None
+
+    @property
+    def upper_agrees(self) -> bool:
+        scale = max(1.0, abs(self.upper))
+        return (abs(self.upper_check.load_factor - self.upper) <= RTOL * scale
+                and abs(self.upper_check.factored - 1.0) <= RTOL)
+
+    @property
+    def lower_holds(self) -> bool:
+        """True without a stored lower bound; else the field proves at least the stored value."""
+        if self.lower is None:
+            return True
+        return self.proven is not None and self.lower <= self.proven * (1 + RTOL) and self.lower <= self.upper * (1 + RTOL)
+
+    @property
+    def ok(self) -> bool:
+        return self.upper_agrees and self.lower_holds
+
+
+def read_result(path: str | Path) -> dict:
+    """result.json as a dict; ModelError naming the file when it cannot be read."""
+    try:
+        return json.loads(Path(path).read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise ModelError(f"result file '{path}': cannot be read as JSON ({exc})") from None
+
+
+def verify_result(model: Model, data: dict, where: str = "result.json") -> Verification:
+    """Re-check the result `data` (result.json as a dict) of `model` (the model file as read;
+    the governing load case is taken from data["case"])."""
+    try:
+        if data.get("case") is not None:
+            case = next((c for c in model.cases if c.name == data["case"]), None)
+            if case is None:
+                raise ModelError(f"{where}: load case {data['case']!r} is not in the model file")
+            model = model_for_case(model, case)
+        mech = data["mechanism"]
+        mechanism = Mechanism(np.array(mech["vertices"], float).reshape(-1, 2),
+                              np.array(mech["triangles"], int).reshape(-1, 3), np.array(mech["w"], float))
+        upper = float(data["load_factor"])
+        lb = data.get("lower_bound")
+        field = None
+        if lb and lb.get("field"):
+            f = lb["field"]
+            field = MomentField(np.array(f["nodes"], float).reshape(-1, 2), np.array(f["triangles"], int).reshape(-1, 3),
+                                np.array(f["moments"], float).reshape(-1, 6, 3))
+        mesh_size = float(data["stats"]["mesh_size"])
+    except (KeyError, TypeError, ValueError) as exc:
+        raise ModelError(f"{where}: not a hingeline result ({type(exc).__name__}: {exc})") from None
+
+    upper_check = check_mechanism(model, mechanism)
+    lower = solved = lower_check = proven = None
+    if lb and lb.get("load_factor") is not None:
+        lower, solved = float(lb["load_factor"]), float(lb["solved"])
+    if field is not None and solved is not None:
+        lower_check = check_field(model, build_domain(model, margin=mesh_size), field, solved)
+        if lower_check.in_equilibrium:
+            proven = solved / max(1.0, lower_check.yield_ratio)
+    return Verification(upper, upper_check, lower, solved, lower_check, proven)
