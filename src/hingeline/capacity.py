@@ -12,7 +12,8 @@ import shapely
 
 
 def normal_capacity(pair: tuple[float, float], bar_angle_deg: float, normal: np.ndarray) -> np.ndarray:
-    """Capacity in kNm/m for unit normals `normal` (k, 2), bars (m1, m2) at `bar_angle_deg`."""
+    """Capacity in kNm/m for unit normals `normal` (k, 2), bars (m1, m2) at `bar_angle_deg`;
+    m1 and m2 may be numbers or (k,) arrays (one capacity pair per normal)."""
     a = np.radians(bar_angle_deg)
     c1 = normal[:, 0] * np.cos(a) + normal[:, 1] * np.sin(a)
     return pair[0] * c1**2 + pair[1] * (1.0 - c1**2)

@@ -27,9 +27,10 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
+from .capacity import normal_capacity
 from .geometry import FACE_PINNED, FREE, HOGGING_SUPPORT, OPENING, SIMPLE, SUPPORTED, Domain
 from .lowerbound import (SIDES, MomentField, bar_rotation, control_values, element_capacities,
-                         element_loads, hogging_normal, point_loads_at_nodes, triangle_sides, twice_area)
+                         element_loads, point_loads_at_nodes, triangle_sides, twice_area)
 from .model import AreaLoad, LineLoad, Model
 
 # Relative size of the residuals accepted as "in equilibrium": the solver's tolerance is
@@ -200,8 +201,8 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     free = np.isin(sd.kind, (FREE, OPENING))
     vj.append(np.abs(v5[free] - q[free, None]).ravel())
     held = np.flatnonzero(np.isin(sd.kind, HOGGING_SUPPORT))
-    hog = hogging_normal(element_capacities(model, centroids)[sd.tri[held]], model.capacity.bar_angle,
-                         sd.normal[held])
+    cap_held = element_capacities(model, centroids)[sd.tri[held]]
+    hog = normal_capacity((cap_held[:, 2], cap_held[:, 3]), model.capacity.bar_angle, sd.normal[held])
     mj.append(np.maximum(-sd.fixity[held, None] * hog[:, None] - m5[held], 0.0).ravel())
     mj.append(np.maximum(m5[held], 0.0).ravel())
 

@@ -48,6 +48,7 @@ import numpy as np
 import shapely
 from scipy import sparse
 
+from .capacity import normal_capacity
 from .geometry import (FACE_PINNED, FREE, HOGGING_SUPPORT, OPENING, SIMPLE, SUPPORTED, Domain,
                        segment_distance)
 from .errors import SolverError
@@ -129,14 +130,6 @@ def element_capacities(model: Model, centroids: np.ndarray) -> np.ndarray:
         inside = shapely.contains_xy(shapely.Polygon(zone.polygon), centroids[:, 0], centroids[:, 1])
         cap[inside] = np.r_[zone.sagging, zone.hogging]
     return cap
-
-
-def hogging_normal(cap: np.ndarray, bar_angle_deg: float, normal: np.ndarray) -> np.ndarray:
-    """Johansen's hogging capacity m'_n (kNm/m) normal to unit normals (k, 2), from rows
-    cap (k, 4) = (m_p1, m_p2, m_n1, m_n2) with bar direction 1 at bar_angle_deg."""
-    a = np.radians(bar_angle_deg)
-    c1 = normal[:, 0] * np.cos(a) + normal[:, 1] * np.sin(a)
-    return cap[:, 2] * c1**2 + cap[:, 3] * (1.0 - c1**2)
 
 
 def element_loads(model: Model, domain: Domain, centroids: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -419,7 +412,8 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
     # hogging only, as in the upper bound, where rotation the other way costs nothing.
     cap = element_capacities(model, centroids)
     held = np.flatnonzero(np.isin(sd.kind, HOGGING_SUPPORT))
-    hog = hogging_normal(cap[sd.tri[held]], model.capacity.bar_angle, sd.normal[held])
+    cap_held = cap[sd.tri[held]]
+    hog = normal_capacity((cap_held[:, 2], cap_held[:, 3]), model.capacity.bar_angle, sd.normal[held])
     for k in range(3):
         c = 18 * sd.tri[held, None] + 3 * ctrl[held, k, None] + np.arange(3)
         ineq.add(c, -mn[held], sd.fixity[held] * hog)
