@@ -1,0 +1,117 @@
+"""Do two versions of hingeline give the same results? Snapshot, then compare.
+
+Usage::
+
+    python benchmarks/same_results.py snapshot DIR      # solve everything below, write DIR/
+    python benchmarks/same_results.py compare OLD NEW   # exit 1 if any stored number differs
+
+A snapshot runs the command line (the most stable surface of the package) on the bundled
+demo, every model in examples/ and the reference slabs of reference.py, and stores for each:
+result.json (``solve``, every float at full precision), and the printed output of
+``design`` and of ``check`` for the hand patterns in examples/patterns/.
+
+``compare`` requires the result.json files to be equal value for value, bit for bit, except
+the fields that hold wall-clock times (any key named ``seconds``); printed output is compared
+line by line with times ("12.3 s") masked. Use it around a change that must not alter
+behaviour, such as a reorganisation of the modules.
+"""
+from __future__ import annotations
+
+import json
+import re
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+TIME_KEYS = {"seconds"}
+TIME_TEXT = re.compile(r"\d+(\.\d+)?\s*s\b")
+
+
+def _models() -> dict[str, Path]:
+    """Name -> model file: demo, examples, reference slabs (written to a temporary folder)."""
+    sys.path.insert(0, str(HERE))
+    from reference import CASES  # noqa: PLC0415 - the benchmark's own case list
+
+    tmp = Path(tempfile.mkdtemp(prefix="hingeline-same-"))
+    models = {"demo": ROOT / "src" / "hingeline" / "data" / "demo.toml"}
+    models |= {f"example-{p.stem}": p for p in sorted((ROOT / "examples").glob("*.toml"))}
+    for name, case in CASES.items():
+        path = tmp / f"{name}.toml"
+        path.write_text(case.toml)
+        models[f"reference-{name}"] = path
+    return models
+
+
+def _run(args: list[str]) -> str:
+    done = subprocess.run([sys.executable, "-m", "hingeline", *args], capture_output=True, text=True)
+    return f"exit {done.returncode}\n{done.stdout}"
+
+
+def snapshot(out: Path) -> None:
+    out.mkdir(parents=True, exist_ok=True)
+    for name, model in _models().items():
+        folder = out / name
+        printed = _run(["solve", str(model), "-o", str(folder)])
+        (out / f"{name}.solve.txt").write_text(printed)
+        (out / f"{name}.design.txt").write_text(_run(["design", str(model)]))
+        print(f"{name}: {printed.splitlines()[0]}", flush=True)
+    for pattern in sorted((ROOT / "examples" / "patterns").glob("*_pattern.toml")):
+        model = pattern.with_name(pattern.name.replace("_pattern", "_model"))
+        (out / f"check-{pattern.stem}.txt").write_text(_run(["check", str(model), str(pattern)]))
+        print(f"check {pattern.stem}", flush=True)
+
+
+def _diff(a, b, path: str, found: list[str]) -> None:
+    if isinstance(a, dict) and isinstance(b, dict):
+        for key in sorted(set(a) | set(b)):
+            if key in TIME_KEYS:
+                continue
+            if key not in a or key not in b:
+                found.append(f"{path}.{key}: present on one side only")
+            else:
+                _diff(a[key], b[key], f"{path}.{key}", found)
+    elif isinstance(a, list) and isinstance(b, list):
+        if len(a) != len(b):
+            found.append(f"{path}: length {len(a)} != {len(b)}")
+        for k, (x, y) in enumerate(zip(a, b)):
+            _diff(x, y, f"{path}[{k}]", found)
+    elif a != b and not (a != a and b != b):   # NaN == NaN here
+        found.append(f"{path}: {a!r} != {b!r}")
+
+
+def compare(old: Path, new: Path) -> int:
+    found: list[str] = []
+    old_files = sorted(p.relative_to(old) for p in old.rglob("*") if p.suffix in {".json", ".txt"})
+    for rel in old_files:
+        if not (new / rel).exists():
+            found.append(f"{rel}: missing in {new}")
+        elif rel.suffix == ".json":
+            _diff(json.loads((old / rel).read_text()), json.loads((new / rel).read_text()), str(rel), found)
+        else:
+            a = TIME_TEXT.sub("<t>", (old / rel).read_text()).splitlines()
+            b = TIME_TEXT.sub("<t>", (new / rel).read_text()).splitlines()
+            found += [f"{rel}: {x!r} != {y!r}" for x, y in zip(a, b) if x != y]
+            if len(a) != len(b):
+                found.append(f"{rel}: {len(a)} lines != {len(b)} lines")
+    print(f"compared {len(old_files)} files: {len(found)} differences")
+    for line in found[:50]:
+        print("  " + line)
+    return 1 if found else 0
+
+
+def main(argv=None) -> int:
+    argv = sys.argv[1:] if argv is None else argv
+    if len(argv) == 2 and argv[0] == "snapshot":
+        snapshot(Path(argv[1]))
+        return 0
+    if len(argv) == 3 and argv[0] == "compare":
+        return compare(Path(argv[1]), Path(argv[2]))
+    print(__doc__)
+    return 2
+
+
+if __name__ == "__main__":
+    sys.exit(main())
