@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 
 import hingeline
-from hingeline.certificate import slab_region
-from hingeline.output import write_outputs
+from hingeline.upper.certificate import slab_region
+from hingeline.outputs.result_json import write_outputs
 from hingeline.result import Mechanism
 from hingeline.verify import verify_result
 

@@ -9,11 +9,11 @@ Public API::
 
 Units: m, kN, kNm/m, kPa. The load factor is an upper bound (collapse mechanism).
 """
-from .certificate import check_mechanism
 from .errors import HingelineError, ModelError, SolverError, UnstableSlabError
 from .model import Model, model_from_toml, parse_model, read_model
 from .result import Result
 from .solve import solve, solve_cases
+from .upper.certificate import check_mechanism
 
 __all__ = [
     "HingelineError", "Model", "ModelError", "Result", "SolverError", "UnstableSlabError",

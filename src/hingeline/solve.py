@@ -12,18 +12,17 @@ from dataclasses import replace
 import numpy as np
 import shapely
 
-from .candidates import build_candidates
-from .certificate import check_mechanism
 from .errors import ModelError, SolverError, UnstableSlabError
-from .fieldcheck import check_field
-from .geometry import build_domain
-from .loadwork import island_rows, load_coefficients
-from .lowerbound import solve_lower_bound
-from .lp import solve_lp
-from .mechanism import build_mechanism, yield_lines
-from .mesh import mesh_domain, mesh_size_for
+from .geometry.domain import build_domain
+from .geometry.mesh import mesh_domain, mesh_size_for
+from .lower import check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
 from .result import LowerBound, Result, SolveStats, Work
+from .upper.candidates import build_candidates
+from .upper.certificate import check_mechanism
+from .upper.loadwork import island_rows, load_coefficients
+from .upper.lp import solve_lp
+from .upper.mechanism import build_mechanism, yield_lines
 
 log = logging.getLogger(__name__)
 

@@ -14,13 +14,12 @@ from pathlib import Path
 
 import numpy as np
 
-from .certificate import check_mechanism
 from .errors import ModelError
-from .fieldcheck import FieldCheck, check_field
-from .geometry import build_domain
-from .lowerbound import MomentField
+from .geometry.domain import build_domain
+from .lower import FieldCheck, MomentField, check_field
 from .model import Model, model_for_case
 from .result import CertificateCheck, Mechanism
+from .upper.certificate import check_mechanism
 
 # Relative agreement required between a stored load factor and its re-check.
 RTOL = 1e-6

@@ -5,7 +5,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from ..handcheck import HandCheck, check_pattern, read_pattern
+from ..check import HandCheck, check_pattern, read_pattern
 from ..model import read_model
 
 HELP = ("load factor of a hand-drawn yield-line pattern (rigid regions, see docs/hand-check.md) "

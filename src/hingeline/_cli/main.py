@@ -28,7 +28,7 @@ EXIT_SOLVER = 3
 
 
 def _version() -> str:
-    from ..output import hingeline_version
+    from ..outputs.result_json import hingeline_version
 
     return hingeline_version()
 

@@ -26,7 +26,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
-    from ..report import write_report  # imported late: reading the model needs no solver
+    from ..outputs.record import write_report  # imported late: reading the model needs no solver
 
     try:
         path = write_report(model, args.outdir, primary=args.resolution)

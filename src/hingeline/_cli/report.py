@@ -5,7 +5,7 @@ import sys
 from pathlib import Path
 
 from ..errors import HingelineError
-from ..output import certificate_agrees
+from ..outputs.result_json import certificate_agrees
 from ..result import Result
 
 

@@ -43,7 +43,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 
 def write_files(result: Result, outdir: Path) -> list[Path]:
     """write_outputs in CLI_FORMATS, with OSError turned into a message naming the folder."""
-    from ..output import write_outputs
+    from ..outputs.result_json import write_outputs
 
     try:
         return write_outputs(result, outdir, formats=CLI_FORMATS)

@@ -1,0 +1,95 @@
+"""Design mode: by how much must the reinforcement be scaled for the load factor to reach a target?
+
+Scaling every capacity by s scales the internal work of every mechanism by s.
+Collapse at the target then requires s D_m >= target F_m + H_m for every
+mechanism m (D internal work at the given capacities, F and H the work of the
+factored and held loads), so
+
+    s = max over m of (target F_m + H_m) / D_m = 1 / lambda_all,
+
+where lambda_all is the ordinary load factor of the slab under the single load
+set (target x factored loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
+scale truly needed: a finer resolution usually raises it.
+
+The same solve gives a lower bound lambda_lower <= lambda_all (lowerbound.py); by the
+lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
+(moments and loads both scale with s). The scale truly needed lies in [s, s_safe].
+
+With a bar schedule, each layer's spacing is then reduced (in 25 mm steps, the
+diameter kept, or the next diameter up if needed) until its EN 1992-1-1 moment
+reaches s_safe times its present value (s when there is no lower bound): proposals
+are proven adequate, not only adequate against the mechanism found.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from ..errors import ModelError
+from ..model import Model, eurocode
+from ..result import Result
+from ..solve import solve
+
+DIAMETERS = (8.0, 10.0, 12.0, 16.0, 20.0, 25.0, 32.0)  # mm, common stock sizes (common practice)
+
+
+@dataclass(frozen=True)
+class LayerProposal:
+    """A bar layer that reaches `required` kNm/m: diameter and spacing in mm, moment kNm/m."""
+
+    name: str
+    required: float
+    diameter: float
+    spacing: float
+    moment: float
+
+
+@dataclass(frozen=True, eq=False)
+class DesignResult:
+    """scale: factor on all capacities for the load factor to equal `target` (the true scale
+    needed is at or above it); safe_scale: a factor proven enough by the lower-bound theorem
+    (None without a lower bound); result: the solve under target x factored + held loads."""
+
+    scale: float
+    target: float
+    result: Result
+    proposals: tuple[LayerProposal, ...] = ()
+    safe_scale: float | None = None
+
+    @property
+    def proposal_scale(self) -> float:
+        """The scale the bar proposals are made for: safe_scale when known, else scale."""
+        return self.scale if self.safe_scale is None else self.safe_scale
+
+
+def required_scale(model: Model, target: float = 1.0, resolution: str | None = None) -> DesignResult:
+    """Capacity scale factor for load factor `target` (> 0); see the module docstring."""
+    if target <= 0:
+        raise ValueError("target load factor must be > 0")
+    loads = tuple(replace(ld, value=ld.value * target if ld.factored else ld.value, factored=True)
+                  for ld in model.loads)
+    result = solve(replace(model, loads=loads), resolution=resolution)
+    scale = 1.0 / result.load_factor
+    lower = result.lower_bound.load_factor if result.lower_bound is not None else None
+    safe = None if not lower else 1.0 / lower
+    proposals = ()
+    if model.capacity.bars:
+        proposals = tuple(_propose(model, bar, lc.moment * (scale if safe is None else safe))
+                          for bar, lc in zip(model.capacity.bars, model.capacity.layers))
+    return DesignResult(scale, target, result, proposals, safe)
+
+
+def _propose(model: Model, bar: eurocode.BarLayer, required: float) -> LayerProposal:
+    """Widest spacing (25 mm steps, 300 mm at most) of the same or the next larger diameter
+    whose design moment reaches `required` kNm/m; NaN fields when none does."""
+    thickness = model.slab.thickness * 1000.0
+    for dia in [bar.diameter] + [d for d in DIAMETERS if d > bar.diameter]:
+        for spacing in range(300, 49, -25):
+            try:
+                lc = eurocode.layer_capacity(replace(bar, diameter=dia, spacing=float(spacing)), thickness,
+                                             model.capacity.materials)
+            except ModelError:
+                break  # does not fit or over-reinforced: denser bars of this size will not help
+            if lc.moment >= required:
+                return LayerProposal(bar.name, required, dia, float(spacing), lc.moment)
+    nan = float("nan")
+    return LayerProposal(bar.name, required, nan, nan, nan)

@@ -1,0 +1,118 @@
+"""Mesh stage: well-spread nodes on D that respect every model boundary.
+
+The mesh is only a source of nodes (and of the first set of candidate lines, its
+edges): the yield lines themselves come from all node-to-node lines
+(candidates.py). Every vertex of the outline, the openings, the fill strip and
+the load patches is a node, and nodes are placed along those boundaries, so a
+yield line can follow or end on any of them.
+
+Units: m.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import meshpy.triangle as triangle
+import numpy as np
+import shapely
+from shapely.geometry import LineString
+
+from ..model import Model
+from .domain import Domain, merge_points, segment_distance
+
+# Target number of nodes on the slab for each resolution word.
+TARGET_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
+
+
+@dataclass(frozen=True, eq=False)
+class Mesh:
+    """nodes: (n, 2) in m; triangles: (t, 3) node indices; edges: (e, 2) unique node pairs a < b."""
+
+    nodes: np.ndarray
+    triangles: np.ndarray
+    edges: np.ndarray
+
+
+def mesh_size_for(model: Model, resolution: str) -> float:
+    """Element size (m) that puts about TARGET_NODES[resolution] nodes on the slab."""
+    area = shapely.Polygon(model.slab.outline).area
+    return float(np.sqrt(2.0 * area / (np.sqrt(3.0) * TARGET_NODES[resolution])))
+
+
+def _linework(domain: Domain, model: Model):
+    lines = [LineString(np.vstack([r, r[:1]])) for r in domain.rings]
+    lines += [LineString(e) for e in domain.edges]
+    extra_points = []
+    for zone in model.zones:
+        lines.append(LineString(np.vstack([zone.polygon, zone.polygon[:1]])).intersection(domain.slab))
+    for load in model.loads:
+        if getattr(load, "region", None) is not None:
+            ring = LineString(np.vstack([load.region, load.region[:1]]))
+            lines.append(ring.intersection(domain.slab))
+        elif hasattr(load, "path"):
+            lines.append(LineString(load.path))
+        elif hasattr(load, "at"):
+            extra_points.append(np.asarray(load.at, float))
+    # Node the linework: split every piece where it meets another, drop repeats.
+    noded = shapely.union_all(lines)
+    segs = []
+    for geom in getattr(noded, "geoms", [noded]):
+        if geom.is_empty or geom.geom_type not in ("LineString", "LinearRing"):
+            continue
+        c = np.asarray(geom.coords)
+        segs.append(np.stack([c[:-1], c[1:]], axis=1))
+    segs = np.concatenate(segs)
+    # Point-load positions are nodes, so that fans of yield lines can centre on them.
+    allp = np.concatenate([segs.reshape(-1, 2), np.reshape(extra_points, (-1, 2))])
+    pts, inv = merge_points(allp, domain.tol * 10)
+    facets = inv[: 2 * len(segs)].reshape(-1, 2)
+    facets = facets[facets[:, 0] != facets[:, 1]]
+    facets = _split_at_points(pts, facets, domain.tol * 10)
+    facets = np.unique(np.sort(facets, axis=1), axis=0)
+    return pts, facets
+
+
+def _split_at_points(pts: np.ndarray, facets: np.ndarray, tol: float) -> np.ndarray:
+    """Split every facet at the nodes lying on it (within tol, m) but not at its ends.
+
+    GEOS leaves such a node unsplit when it sits a rounding error off the segment (seen where
+    a fill strip ends on a supported edge at a re-entrant corner); Triangle then meets a node
+    on a facet and loops for ever printing "Internal error in insertvertex()"."""
+    d = segment_distance(pts, pts[facets])                              # (n, f)
+    own = np.arange(len(pts))[:, None]
+    d[(own == facets[None, :, 0]) | (own == facets[None, :, 1])] = np.inf
+    hit_p, hit_f = np.nonzero(d <= tol)
+    if not hit_p.size:
+        return facets
+    keep = np.ones(len(facets), bool)
+    keep[hit_f] = False
+    pieces = [facets[keep]]
+    for f in np.unique(hit_f):
+        a, b = facets[f]
+        on = hit_p[hit_f == f]
+        t = (pts[on] - pts[a]) @ (pts[b] - pts[a])
+        chain = np.concatenate([[a], on[np.argsort(t)], [b]])
+        pieces.append(np.stack([chain[:-1], chain[1:]], axis=1))
+    return np.concatenate(pieces)
+
+
+def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
+    """Quality triangulation of D with elements of about `size` (m)."""
+    pts, facets = _linework(domain, model)
+    info = triangle.MeshInfo()
+    info.set_points(pts.tolist())
+    info.set_facets(facets.tolist())
+    # Footprints of columns and walls are ground, outside D: holes of the mesh.
+    holes = [part.representative_point().coords[0] for sp in model.supports
+             for part in getattr(sp.polygon, "geoms", [sp.polygon])]
+    if holes:
+        info.set_holes(holes)
+    # Triangle's quality meshes come out finer than the area bound; the factor was set so that
+    # the unit square gets about TARGET_NODES nodes (measured: about 150 / 451 / 1068).
+    max_area = 0.5 * np.sqrt(3.0) / 4.0 * size**2 * 3.4
+    mesh = triangle.build(info, max_volume=max_area, min_angle=28.0, generate_faces=False)
+    nodes = np.array(mesh.points, float)
+    tris = np.array(mesh.elements, np.int64)
+    e = np.concatenate([tris[:, [0, 1]], tris[:, [1, 2]], tris[:, [2, 0]]])
+    edges = np.unique(np.sort(e, axis=1), axis=0)
+    return Mesh(nodes, tris, edges)

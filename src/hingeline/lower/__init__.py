@@ -1,0 +1,16 @@
+"""The lower bound: a statically admissible moment field on the slab's triangles, and its
+independent re-check.
+
+Public names: `solve_lower_bound`, `MomentField`, `check_field`, `FieldCheck`,
+`yield_ratio`, `element_capacities`, `SIDES`, `slab_triangles`, `EQUILIBRIUM_RTOL`.
+Units: m, kN, kNm/m, kPa; sagging positive.
+May import: `hingeline.model`, `hingeline.geometry`, `hingeline.errors`. Never
+`hingeline.upper`: the two bounds stay independent of each other.
+"""
+from .elements import SIDES, MomentField, element_capacities, slab_triangles, solve_lower_bound
+from .fieldcheck import EQUILIBRIUM_RTOL, FieldCheck, check_field, yield_ratio
+
+__all__ = [
+    "EQUILIBRIUM_RTOL", "SIDES", "FieldCheck", "MomentField", "check_field", "element_capacities",
+    "slab_triangles", "solve_lower_bound", "yield_ratio",
+]

@@ -1,0 +1,31 @@
+"""The model: what the user wrote in the model file, read and validated.
+
+Public names: `read_model`, `model_from_toml`, `parse_model` (file / text / dict -> `Model`),
+the frozen dataclasses of a model, and `model_for_case`. Every error is a `ModelError` that
+names the offending item. Units: m, kN, kNm/m, kPa; angles in degrees in the file.
+May import: numpy, shapely, tomllib, `hingeline.errors`. Nothing downstream.
+"""
+from .parse import (
+                    EDGE_KINDS,
+                    RESOLUTIONS,
+                    Analysis,
+                    AreaLoad,
+                    Capacity,
+                    LineLoad,
+                    LoadCase,
+                    Model,
+                    PointLoad,
+                    Slab,
+                    Support,
+                    Zone,
+                    model_for_case,
+                    model_from_toml,
+                    parse_model,
+                    read_model,
+)
+
+__all__ = [
+    "EDGE_KINDS", "RESOLUTIONS", "Analysis", "AreaLoad", "Capacity", "LineLoad", "LoadCase", "Model",
+    "PointLoad", "Slab", "Support", "Zone", "model_for_case", "model_from_toml", "parse_model",
+    "read_model",
+]

@@ -1,0 +1,316 @@
+"""Output stage: a Result as JSON-ready data, and the files written for the user.
+
+`result_to_dict` turns a Result into plain lists, floats, ints, strings and bools
+(floats unrounded, so `json` writes them with repr and they read back bit for bit;
+this matters because the certificate is re-checked from the file).
+`write_outputs` renders everything in memory first and only then writes
+OUTDIR/result.json, OUTDIR/pattern.<fmt> (the yield-line plan) and
+OUTDIR/deflection.<fmt> (contours of the mechanism's w / w_max), so a failure
+while rendering leaves nothing behind. The fields of result.json are described
+by the JSON Schema docs/result.schema.json.
+
+Units follow result.py: lengths m, moments kNm/m, rotations rad, work kNm,
+deflections w in m per kNm of factored-load work (positive downward).
+"""
+from __future__ import annotations
+
+import io
+import json
+import logging
+import math
+import os
+from importlib import metadata
+from pathlib import Path
+from typing import Any, Iterable
+
+import numpy as np
+
+from ..result import CAUTIONS, Result
+
+log = logging.getLogger(__name__)
+
+#: File formats `write_outputs` can render the plots to.
+PLOT_FORMATS = ("png", "pdf", "svg")
+
+#: Plots `write_outputs` writes, as file stem -> plot function name in plot.py
+#: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
+#: ratio of the lower-bound moment field, written only when the result has that field).
+PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
+
+#: Resolution of raster plot files, dots per inch.
+PLOT_DPI = 150
+
+#: Plot size in inches (fits an A4 page with margins).
+PLOT_SIZE = (7.0, 5.5)
+
+#: Relative tolerance used by `certificate_agrees`.
+CERTIFICATE_RTOL = 1e-6
+
+UNITS = {
+    "length": "m",
+    "moment": "kNm/m",
+    "area_load": "kPa",
+    "rotation": "rad",
+    "work": "kNm",
+    "w": "m per kNm of factored-load work (mechanism normalised so the factored loads do 1 kNm of work)",
+    "load_factor": "dimensionless (multiplies the factored loads; held loads stay at their value)",
+}
+
+
+def hingeline_version() -> str:
+    """Version of the installed hingeline distribution ("unknown" when not installed)."""
+    try:
+        return metadata.version("hingeline")
+    except metadata.PackageNotFoundError:
+        return "unknown"
+
+
+def _float(x: Any) -> float | None:
+    """A plain Python float at full precision; None for NaN/inf (not valid JSON)."""
+    v = float(x)
+    return v if math.isfinite(v) else None
+
+
+def _floats(a: Any) -> list:
+    """Nested plain lists of floats from an array-like."""
+    arr = np.asarray(a, dtype=float)
+    if arr.ndim == 0:
+        return _float(arr)  # type: ignore[return-value]
+    return [_floats(x) for x in arr] if arr.ndim > 1 else [_float(x) for x in arr]
+
+
+def _plain(value: Any) -> Any:
+    """Convert a dataclass field value (numpy scalars included) to a JSON-ready value."""
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return _float(value)
+    if isinstance(value, np.ndarray):
+        return _floats(value)
+    if value is None or isinstance(value, str):
+        return value
+    raise TypeError(f"cannot convert {type(value).__name__} to JSON")
+
+
+def _model_to_dict(result: Result) -> dict:
+    model = result.model
+    slab, cap = model.slab, model.capacity
+    return {
+        "outline": _floats(slab.outline),
+        "edges": list(slab.edges),
+        "openings": [_floats(p) for p in slab.openings],
+        "thickness": None if slab.thickness is None else _float(slab.thickness),
+        "capacity": {
+            "sagging": [_float(m) for m in cap.sagging],
+            "hogging": [_float(m) for m in cap.hogging],
+            "bar_angle": _float(cap.bar_angle),
+            "layers": [
+                {"name": lc.name, "area": _float(lc.area), "d": _float(lc.d), "x": _float(lc.x),
+                 "xu_d": _float(lc.xu_d), "moment": _float(lc.moment)}
+                for lc in cap.layers
+            ],
+        },
+        "loads": [_load_to_dict(load) for load in model.loads],
+        "zones": [
+            {"name": z.name, "polygon": _floats(z.polygon), "sagging": [_float(m) for m in z.sagging],
+             "hogging": [_float(m) for m in z.hogging]}
+            for z in model.zones
+        ],
+        "supports": [
+            {"name": sp.name, "connection": sp.connection,
+             "polygons": [_floats(np.asarray(part.exterior.coords)[:-1])
+                          for part in getattr(sp.polygon, "geoms", [sp.polygon])]}
+            for sp in model.supports
+        ],
+        "analysis": {
+            "resolution": model.analysis.resolution,
+            "mesh_size": None if model.analysis.mesh_size is None else _float(model.analysis.mesh_size),
+        },
+    }
+
+
+def _load_to_dict(load) -> dict:
+    common = {"name": load.name, "value": _float(load.value), "factored": bool(load.factored)}
+    if hasattr(load, "at"):
+        return {"type": "point", **common, "at": [_float(c) for c in load.at]}
+    if hasattr(load, "path"):
+        return {"type": "line", **common, "path": _floats(load.path)}
+    return {"type": "area", **common, "region": None if load.region is None else _floats(load.region)}
+
+
+def _yield_lines_to_list(result: Result) -> list[dict]:
+    yl = result.yield_lines
+    start = np.asarray(yl.start, dtype=float).reshape(-1, 2)
+    end = np.asarray(yl.end, dtype=float).reshape(-1, 2)
+    return [
+        {
+            "start": [_float(start[i, 0]), _float(start[i, 1])],
+            "end": [_float(end[i, 0]), _float(end[i, 1])],
+            "rotation": _float(yl.rotation[i]),
+            "sense": "sagging" if bool(yl.sagging[i]) else "hogging",
+            "dissipation": _float(yl.dissipation[i]),
+            "at_support": bool(yl.at_support[i]),
+        }
+        for i in range(len(yl))
+    ]
+
+
+def _fields(obj: Any) -> dict:
+    from dataclasses import fields
+
+    return {f.name: _plain(getattr(obj, f.name)) for f in fields(obj)}
+
+
+def result_to_dict(result: Result) -> dict:
+    """The Result as a JSON-ready dict of plain lists, floats, ints, strings and bools.
+
+    Keys: hingeline_version, title, load_factor, units, yield_lines (list of
+    {start, end, rotation, sense, dissipation, at_support}), work {internal,
+    factored, held}, mechanism {vertices, triangles, w}, stats (all SolveStats
+    fields), certificate (all CertificateCheck fields), model (the model as solved:
+    for a model with load cases, the governing case's loads), warnings, cautions,
+    case (governing load case or None), cases (name and load factor of every case),
+    lower_bound (None when not computed, else {load_factor, gap, solved, status, seconds,
+    reason, check, field {nodes, triangles, moments}}). Floats keep full precision;
+    non-finite floats become None.
+    See docs/result-format.md.
+    """
+    mech = result.mechanism
+    return {
+        "hingeline_version": hingeline_version(),
+        "title": result.model.title,
+        "load_factor": _float(result.load_factor),
+        "units": dict(UNITS),
+        "yield_lines": _yield_lines_to_list(result),
+        "work": _fields(result.work),
+        "mechanism": {
+            "vertices": _floats(mech.vertices),
+            "triangles": [[int(i) for i in tri] for tri in np.asarray(mech.triangles)],
+            "w": _floats(mech.w),
+        },
+        "stats": _fields(result.stats),
+        "certificate": _fields(result.certificate),
+        "model": _model_to_dict(result),
+        "warnings": [str(w) for w in result.warnings],
+        "cautions": list(CAUTIONS),
+        "case": result.case,
+        "cases": [{"name": n, "load_factor": _float(lf),
+                   "lower_bound": None if lb is None else _float(lb)}
+                  for (n, lf), lb in zip(result.cases, result.case_lower_bounds or (None,) * len(result.cases))],
+        "lower_bound": _lower_bound_to_dict(result),
+    }
+
+
+def _lower_bound_to_dict(result: Result) -> dict | None:
+    """The lower bound, its re-check and its moment field (nodes renumbered to those used)."""
+    lb = result.lower_bound
+    if lb is None:
+        return None
+    out = {
+        "load_factor": None if lb.load_factor is None else _float(lb.load_factor),
+        "gap": None if result.gap is None else _float(result.gap),
+        "solved": None if lb.solved is None else _float(lb.solved),
+        "status": lb.status,
+        "seconds": _float(lb.seconds),
+        "reason": lb.reason,
+        "check": None if lb.check is None else _fields(lb.check),
+        "field": None,
+    }
+    if lb.field is not None:
+        used, tri = np.unique(np.asarray(lb.field.triangles), return_inverse=True)
+        out["field"] = {
+            "nodes": _floats(np.asarray(lb.field.nodes)[used]),
+            "triangles": tri.reshape(-1, 3).tolist(),
+            "moments": _floats(np.asarray(lb.field.moments)),
+        }
+    return out
+
+
+def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
+    """True when the independent re-check matches the solve.
+
+    The re-computed load factor must equal result.load_factor within rtol (relative
+    to max(1, |load factor|)), and the largest |w| on supported edges must be at most
+    rtol times the largest |w| of the mechanism.
+    """
+    lf, chk = float(result.load_factor), result.certificate
+    if not (math.isfinite(lf) and math.isfinite(chk.load_factor)):
+        return False
+    scale = max(1.0, abs(lf))
+    w = np.asarray(result.mechanism.w, dtype=float)
+    w_max = float(np.max(np.abs(w))) if w.size else 0.0
+    return abs(chk.load_factor - lf) <= rtol * scale and chk.max_support_w <= rtol * max(w_max, 1e-300)
+
+
+def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
+    """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from . import plots as plot
+
+    fig = Figure(figsize=PLOT_SIZE, layout="constrained")
+    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # keep a strip for the caution line
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot()
+    getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
+    fig.text(
+        0.5, 0.005,
+        "Upper-bound yield-line result. Shear/punching, deflection, ductility and detailing "
+        "not checked; review by a qualified engineer under local codes.",
+        ha="center", va="bottom", fontsize=6, color="0.3",
+    )
+    buf = io.BytesIO()
+    metadata_ = {"Creator": f"hingeline {hingeline_version()}"} if fmt in ("png", "pdf") else None
+    fig.savefig(buf, format=fmt, dpi=PLOT_DPI, metadata=metadata_)
+    return buf.getvalue()
+
+
+def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[str] = ("png",)) -> list[Path]:
+    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt>, OUTDIR/deflection.<fmt> and (with a
+    lower-bound field) OUTDIR/utilisation.<fmt> for each format; return the paths (result.json
+    first, then the plots format by format).
+
+    formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
+    pattern: the yield-line plan (plot.plot_pattern); deflection: the contour plan of
+    the mechanism's w / w_max (plot.plot_deflection).
+    Everything is rendered in memory before the folder is created and each file is
+    written to a temporary name and then renamed, so a failure leaves no half-written
+    output. Existing files of the same names are replaced.
+    Raises ValueError for an unknown format, OSError when the folder cannot be written.
+    """
+    formats = tuple(formats)
+    for fmt in formats:
+        if fmt not in PLOT_FORMATS:
+            raise ValueError(f"unknown plot format {fmt!r}; choose from {', '.join(PLOT_FORMATS)}")
+
+    text = json.dumps(result_to_dict(result), indent=1, allow_nan=False) + "\n"
+    blobs: list[tuple[str, bytes]] = [("result.json", text.encode("utf-8"))]
+    has_field = result.lower_bound is not None and result.lower_bound.field is not None
+    for fmt in dict.fromkeys(formats):
+        for kind in PLOT_KINDS:
+            if kind == "utilisation" and not has_field:
+                continue
+            blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind)))
+
+    out = Path(outdir)
+    out.mkdir(parents=True, exist_ok=True)
+    written: list[Path] = []
+    tmp_paths: list[tuple[Path, Path]] = []
+    try:
+        for name, data in blobs:
+            final = out / name
+            tmp = out / f".{name}.tmp-{os.getpid()}"
+            tmp.write_bytes(data)
+            tmp_paths.append((tmp, final))
+        for tmp, final in tmp_paths:
+            os.replace(tmp, final)
+            written.append(final)
+    finally:
+        for tmp, _ in tmp_paths:
+            if tmp.exists():
+                tmp.unlink()
+    log.info("wrote %s", ", ".join(str(p) for p in written))
+    return written
