@@ -8,17 +8,20 @@ Usage::
 A snapshot runs the command line (the most stable surface of the package) on the bundled
 demo, every model in examples/ and the reference slabs of reference.py, and stores for each:
 result.json (``solve``, every float at full precision), and the printed output of
-``design`` and of ``check`` for the hand patterns in examples/patterns/.
+``design`` and of ``check`` for the hand patterns in examples/patterns/, and the calculation
+record (``report``) of the demo and the podium deck as HTML text, drawings and date masked.
 
 ``compare`` requires the result.json files to be equal value for value, bit for bit, except
 the fields that hold wall-clock times (any key named ``seconds``); printed output is compared
-line by line with times ("12.3 s") masked. Use it around a change that must not alter
+line by line with times ("12.3 s") masked and
+the snapshot's own folders replaced by names. Use it around a change that must not alter
 behaviour, such as a reorganisation of the modules.
 """
 from __future__ import annotations
 
 import json
 import re
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -28,6 +31,9 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 TIME_KEYS = {"seconds"}
 TIME_TEXT = re.compile(r"\d+(\.\d+)?\s*s\b")
+DATA_URI = re.compile(r"data:image/[a-z+]+;base64,[A-Za-z0-9+/=]+")
+STAMP = re.compile(r"\d{4}-\d\d-\d\d \d\d:\d\d UTC")
+RECORDS = ("demo", "example-podium_deck_on_columns")   # calculation records compared as HTML text
 
 
 def _models() -> dict[str, Path]:
@@ -45,22 +51,37 @@ def _models() -> dict[str, Path]:
     return models
 
 
-def _run(args: list[str]) -> str:
+def _run(args: list[str], folders: dict[str, str]) -> str:
+    """Printed output of one command, with the folders of this snapshot replaced by names."""
     done = subprocess.run([sys.executable, "-m", "hingeline", *args], capture_output=True, text=True)
-    return f"exit {done.returncode}\n{done.stdout}"
+    text = f"exit {done.returncode}\n{done.stdout}"
+    for folder, name in folders.items():
+        text = text.replace(folder, name)
+    return text
 
 
 def snapshot(out: Path) -> None:
     out.mkdir(parents=True, exist_ok=True)
-    for name, model in _models().items():
+    models = _models()
+    folders = {str(out): "<snapshot>", str(models["reference-ss_square"].parent): "<models>", str(ROOT): "<repo>"}
+    for name, model in models.items():
         folder = out / name
-        printed = _run(["solve", str(model), "-o", str(folder)])
+        printed = _run(["solve", str(model), "-o", str(folder)], folders)
         (out / f"{name}.solve.txt").write_text(printed)
-        (out / f"{name}.design.txt").write_text(_run(["design", str(model)]))
+        (out / f"{name}.design.txt").write_text(_run(["design", str(model)], folders))
         print(f"{name}: {printed.splitlines()[0]}", flush=True)
+        if name in RECORDS:
+            record = out / f"{name}-record"
+            _run(["report", str(model), "-o", str(record)], folders)
+            html = (record / "report.html").read_text()
+            html = STAMP.sub("<date>", DATA_URI.sub("<drawing>", html))
+            for folder, label in folders.items():
+                html = html.replace(folder, label)
+            (out / f"{name}.record.txt").write_text(html)
+            shutil.rmtree(record)
     for pattern in sorted((ROOT / "examples" / "patterns").glob("*_pattern.toml")):
         model = pattern.with_name(pattern.name.replace("_pattern", "_model"))
-        (out / f"check-{pattern.stem}.txt").write_text(_run(["check", str(model), str(pattern)]))
+        (out / f"check-{pattern.stem}.txt").write_text(_run(["check", str(model), str(pattern)], folders))
         print(f"check {pattern.stem}", flush=True)
 
 
