@@ -32,7 +32,7 @@ log = logging.getLogger(__name__)
 #: File formats `write_outputs` can render the plots to.
 PLOT_FORMATS = ("png", "pdf", "svg")
 
-#: Plots `write_outputs` writes, as file stem -> plot function name in plot.py
+#: Plots `write_outputs` writes, as file stem -> plot function name in plots.py
 #: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
 #: ratio of the lower-bound moment field, written only when the result has that field).
 PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
@@ -246,22 +246,13 @@ def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
 
 def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
     """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
     from . import plots as plot
+    from .drawing import add_caution_footer, file_figure
 
-    fig = Figure(figsize=PLOT_SIZE, layout="constrained")
-    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # keep a strip for the caution line
-    FigureCanvasAgg(fig)
+    fig = file_figure(PLOT_SIZE)
     ax = fig.add_subplot()
     getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
-    fig.text(
-        0.5, 0.005,
-        "Upper-bound yield-line result. Shear/punching, deflection, ductility and detailing "
-        "not checked; review by a qualified engineer under local codes.",
-        ha="center", va="bottom", fontsize=6, color="0.3",
-    )
+    add_caution_footer(fig)
     buf = io.BytesIO()
     metadata_ = {"Creator": f"hingeline {hingeline_version()}"} if fmt in ("png", "pdf") else None
     fig.savefig(buf, format=fmt, dpi=PLOT_DPI, metadata=metadata_)
