@@ -142,6 +142,8 @@ def test_report_lower_bound_section(coarse_report):
     relative, ratio, ratio_points = check[5][0], check[6][0], check[7][0]
     assert relative <= 1e-6 and ratio <= 1.0 and ratio_points <= ratio + 1e-9
     assert "Krabbenhoft and Damkilde" in text and "Nielsen and Hoang" in text
+    # the template's own markup (subscripts in the re-check table) is printed as markup, not escaped
+    assert "normal moment m<sub>n</sub> across a side" in text and "&lt;sub&gt;" not in text
     section = text[text.index("7. Lower bound"):text.index("8. Cautions")]
     assert 'alt="Utilisation of the lower-bound moment field" src="data:image/svg+xml;base64,' in section
 
@@ -209,7 +211,7 @@ def test_cli_report_writes_page_and_convergence_table(tmp_path, capsys):
     conv = _rows(v, "convergence")                  # coarse and normal, one load factor each
     assert len(conv) == 2
     assert all(np.isfinite(r[0]) and r[0] > 0 for r in conv)
-    # issue 4: each resolution's lower bound sits beside its load factor, and below it
+    # each resolution's lower bound sits beside its load factor, and below it
     assert all(0 < r[1] <= r[0] for r in conv)
     assert list(out.iterdir()) == [page]            # no temporary files left
 
