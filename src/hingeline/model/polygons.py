@@ -83,14 +83,27 @@ def clean_polygon(pts: np.ndarray, where: str, tol: float) -> np.ndarray:
 
 
 def _self_intersection(pts: np.ndarray, tol: float) -> tuple[int, int, np.ndarray] | None:
-    """First pair of edges (i, j), i < j, 0-based, that cross, touch or overlap, with a point; else None."""
+    """First pair of edges (i, j), i < j, 0-based, that cross, touch or overlap, with a point; else None.
+
+    Edge k runs from vertex k to vertex k+1. A pair meets when an end of one edge comes within
+    `tol` (m) of the other, or when they cross; of two edges that share a vertex only the far
+    ends count (a fold-back puts one on the other edge). The point is where they cross, or the
+    end nearest the other edge.
+    """
     n = len(pts)
     a = pts
     b = np.roll(pts, -1, axis=0)  # edge k: a[k] -> b[k]
-    i, j = np.triu_indices(n, k=1)
+    # Shapely's tree finds the pairs of edges that come near each other; the margin over
+    # `tol` covers rounding, so that every pair the test below refuses is among them.
+    edges = shapely.linestrings(np.stack([a, b], axis=1))
+    near = 2.0 * tol + 64.0 * np.finfo(float).eps * float(np.max(np.abs(pts)))
+    i, j = shapely.STRtree(edges).query(edges, predicate="dwithin", distance=near)
+    i, j = i[i < j], j[i < j]
+    order = np.lexsort((j, i))
+    i, j = i[order], j[order]
+    # The test itself is kept in plain arithmetic: GEOS's distances and crossing points differ
+    # from it in the last digits, which changes the point, even the pair, a message quotes.
     adjacent = (j == i + 1) | ((i == 0) & (j == n - 1))
-    # Endpoint-to-segment distances. For adjacent edges only the far endpoints
-    # count (they share one vertex): a fold-back puts one on the other edge.
     cand = np.stack(
         [
             _point_segment_distance(a[j], a[i], b[i]),
@@ -99,7 +112,7 @@ def _self_intersection(pts: np.ndarray, tol: float) -> tuple[int, int, np.ndarra
             _point_segment_distance(b[i], a[j], b[j]),
         ]
     )
-    pts4 = np.stack([a[j], b[j], a[i], b[i]])
+    ends = np.stack([a[j], b[j], a[i], b[i]])
     # Shared vertex of adjacent pairs: j == i+1 shares b[i] == a[j]; (0, n-1) shares a[0] == b[n-1].
     shared = np.zeros_like(cand, dtype=bool)
     shared[0] = j == i + 1  # a[j] is the shared vertex
@@ -124,7 +137,7 @@ def _self_intersection(pts: np.ndarray, tol: float) -> tuple[int, int, np.ndarra
         t = c3[k] / (c3[k] - c4[k])
         at = a[i[k]] + t * ui[k]
     else:
-        at = pts4[int(np.argmin(cand[:, k])), k]
+        at = ends[int(np.argmin(cand[:, k])), k]
     return int(i[k]), int(j[k]), at
 
 
