@@ -6,6 +6,7 @@ mechanics only; no engineering result is checked.
 """
 from __future__ import annotations
 
+import numpy as np
 import pytest
 from model_inputs import HOLE, base, error_of
 
@@ -101,6 +102,24 @@ def test_first_of_several_crossings_in_vertex_order_is_named():
     msg = error_of(d)
     assert ("edge 1 (vertex 1 (0, 0) to vertex 2 (10, 0)) and edge 3 (vertex 3 (10, 10) to vertex 4 (7, -2)) "
             "cross or touch at (7.5, 0)") in msg
+
+
+
+def test_small_polygons_far_from_the_origin_keep_their_orientation():
+    # A 30 mm square opening and load region in site coordinates, listed counter-clockwise
+    # (x rising along the first side, then y): both must be stored as given. The sum of cross
+    # products in floating point gives this square a negative area (-0.0039 m^2 against the
+    # exact +0.0009 m^2), which once turned it clockwise.
+    x0, y0 = 5000316.0, 5000210.0
+    square = [[5000319.004, 5000212.5], [5000319.034, 5000212.5], [5000319.034, 5000212.53], [5000319.004, 5000212.53]]
+    d = base()
+    d["slab"] = {"outline": [[x0, y0], [x0 + 6, y0], [x0 + 6, y0 + 4], [x0, y0 + 4]], "edges": "simple",
+                 "opening": [{"polygon": square}]}
+    d["load"][0]["region"] = [[x0, y0], [x0 + 2, y0], [x0 + 2, y0 + 2], [x0, y0 + 2]]
+    d["load"].append({"type": "area", "value": 1.0, "region": _shift(square, 1.0, 0.0)})
+    m = parse_model(d)
+    np.testing.assert_array_equal(m.slab.openings[0], square)
+    np.testing.assert_array_equal(m.loads[1].region, _shift(square, 1.0, 0.0))
 
 
 # --- strictly inside the outline -------------------------------------------------------------
