@@ -7,8 +7,9 @@ Units: m, kN, kNm/m, kPa; sagging positive.
 May import: `hingeline.model`, `hingeline.geometry`, `hingeline.errors`. Never
 `hingeline.upper`: the two bounds stay independent of each other.
 """
-from .elements import SIDES, MomentField, element_capacities, slab_triangles, solve_lower_bound
+from .elements import SIDES, MomentField, element_capacities, slab_triangles
 from .fieldcheck import EQUILIBRIUM_RTOL, FieldCheck, check_field, yield_ratio
+from .program import solve_lower_bound
 
 __all__ = [
     "EQUILIBRIUM_RTOL", "SIDES", "FieldCheck", "MomentField", "check_field", "element_capacities",
