@@ -367,8 +367,9 @@ _CHECK_ROWS = {
     "corner": ("kN", ".3e", "largest unbalanced corner force at a node off the supports"),
     "load_total": ("kN", ".3e", "total area load on the triangles less that on the slab itself"),
     "relative": ("–", ".3e", "largest of the above, each divided by its scale (load, capacity, total load)"),
-    "yield_ratio": ("–", ".9f", "largest yield ratio at the control values, which bound the field (≤ 1: inside "
-                         "the yield criterion everywhere)"),
+    "yield_ratio": ("–", ".9f", "largest yield ratio at the control values, which bound the field (along free "
+                         "edges without top bars, through the scaled moment tensor; ≤ 1: inside the yield "
+                         "criterion everywhere)"),
     "yield_ratio_points": ("–", ".9f", "largest yield ratio at 10 grid points of each triangle (corners included)"),
 }
 
