@@ -1,7 +1,9 @@
 """Shared definitions of the lower bound's equilibrium elements: triangle geometry, the
 quadratic moment field and its Bernstein-Bezier control values, capacities and loads per
-triangle, the sides of the slab triangles in their own frames, point loads at nodes, and
-the coefficients of m_n, m_nt and the Kirchhoff shear V_n in terms of the control values.
+triangle, the sides of the slab triangles in their own frames, point loads at nodes, the
+coefficients of m_n, m_nt and the Kirchhoff shear V_n in terms of the control values, and
+which sides and triangles get the special yield conditions used where there are no top bars
+(zero-moment sides; triangles checked through the scaled tensor, see cones.py).
 
 Per triangle, m_x, m_y and m_xy are quadratic, each held as its 6 Bernstein-Bezier control
 values (3 at the vertices, 3 on the sides). A quadratic triangle lies in the convex hull of
