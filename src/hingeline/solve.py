@@ -15,7 +15,7 @@ import shapely
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import mesh_domain, mesh_size_for
-from .lower import check_field, solve_lower_bound
+from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
 from .result import LowerBound, Result, SolveStats, Work
 from .upper.candidates import build_candidates
@@ -126,16 +126,33 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
 
 def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
     """Solve for the lower bound, re-check the field, and keep its load factor only if the
-    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion)."""
-    sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
+    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion). A field that
+    fails the re-check is solved for again with the next of SOLVER_SETTINGS; if none passes,
+    the one closest to equilibrium (smallest relative residual) is kept."""
+    tried, seconds = [], 0.0
+    for attempt in range(len(SOLVER_SETTINGS)):
+        sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles, attempt)
+        seconds += sol.seconds
+        if sol.load_factor is None:
+            tried.append((sol, None))
+            if "Infeasible" in sol.status:
+                break
+            continue
+        chk = check_field(model, domain, sol.field, sol.load_factor)
+        tried.append((sol, chk))
+        if chk.in_equilibrium and chk.yield_ratio <= 1.0:
+            break
+    sol, chk = tried[-1]
+    if chk is None or not (chk.in_equilibrium and chk.yield_ratio <= 1.0):
+        checked = [sc for sc in tried if sc[1] is not None]
+        sol, chk = min(checked, key=lambda sc: sc[1].relative) if checked else tried[0]
     if sol.load_factor is None:
         reason = f"the lower-bound solver stopped with status '{sol.status}'"
         if "Infeasible" in sol.status:
             reason = ("no moment field on this mesh carries the held (unfactored) loads within the capacities, "
                       "so nothing can be proven even at load factor 0; a finer resolution may find one")
         warnings.append(f"no lower bound: {reason}")
-        return LowerBound(None, None, None, None, sol.status, sol.seconds, reason)
-    chk = check_field(model, domain, sol.field, sol.load_factor)
+        return LowerBound(None, None, None, None, sol.status, seconds, reason)
     value, reason = sol.load_factor, ""
     if not chk.in_equilibrium:
         value, reason = None, (f"the moment field is out of equilibrium by {chk.relative:.1e} (relative) "
@@ -153,7 +170,7 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
             f"the lower bound {value:.6g} exceeds the load factor {upper:.6g}: one of the two is wrong; "
             "report this model to the developers")
     log.info("lower bound %s (solver %.6f, %s, %.2f s)", value, sol.load_factor, sol.status, sol.seconds)
-    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, sol.seconds, reason)
+    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, seconds, reason)
 
 
 def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None,

@@ -1,7 +1,9 @@
 """Shared definitions of the lower bound's equilibrium elements: triangle geometry, the
 quadratic moment field and its Bernstein-Bezier control values, capacities and loads per
-triangle, the sides of the slab triangles in their own frames, point loads at nodes, and
-the coefficients of m_n, m_nt and the Kirchhoff shear V_n in terms of the control values.
+triangle, the sides of the slab triangles in their own frames, point loads at nodes, the
+coefficients of m_n, m_nt and the Kirchhoff shear V_n in terms of the control values, and
+which sides and triangles get the special yield conditions used where there are no top bars
+(zero-moment sides; triangles checked through the scaled tensor, see cones.py).
 
 Per triangle, m_x, m_y and m_xy are quadratic, each held as its 6 Bernstein-Bezier control
 values (3 at the vertices, 3 on the sides). A quadratic triangle lies in the convex hull of
@@ -21,7 +23,15 @@ import numpy as np
 import shapely
 
 from ..errors import SolverError
-from ..geometry.domain import Domain, segment_distance
+from ..geometry.domain import (
+    FACE_PINNED,
+    FREE,
+    HOGGING_SUPPORT,
+    OPENING,
+    SIMPLE,
+    Domain,
+    segment_distance,
+)
 from ..model import AreaLoad, LineLoad, Model, PointLoad
 
 # Control points of a quadratic triangle: vertices 0, 1, 2 then sides (0,1), (1,2), (2,0).
@@ -255,3 +265,51 @@ def point_loads_at_nodes(model: Model, nodes: np.ndarray, tol: float) -> np.ndar
                                   "to the developers")
             out[k, 0 if load.factored else 1] += load.value
     return out
+
+
+# Boundary kinds with free edges' conditions (m_n = 0, V_n = q), and all kinds with m_n = 0.
+FREE_KINDS = (FREE, OPENING)
+ZERO_MN_KINDS = (FREE, OPENING, SIMPLE, FACE_PINNED)
+
+
+def no_top_bars(cap: np.ndarray) -> np.ndarray:
+    """(t,) True where a triangle has no hogging capacity in either bar direction (cap (t, 4))."""
+    return (cap[:, 2] == 0.0) & (cap[:, 3] == 0.0)
+
+
+def zero_moment_sides(sd: Sides, cap: np.ndarray) -> np.ndarray:
+    """(s,) True for boundary sides of triangles without top bars where m_n = 0: free edges,
+    openings, simple supports and pinned faces, and also continuous edges and monolithic faces,
+    whose restraint -fixity m'_n <= m_n <= 0 closes to m_n = 0 when m'_n = 0. There the
+    hogging branch of the criterion (M positive semi-definite) leaves m_nt = 0 and m_t >= 0."""
+    return np.isin(sd.kind, (*ZERO_MN_KINDS, *HOGGING_SUPPORT)) & no_top_bars(cap)[sd.tri]
+
+
+def scaled_check_sides(sd: Sides, cap: np.ndarray) -> np.ndarray:
+    """(t,) for each triangle the side (index into sd) whose scaled tensor is checked for
+    yield instead of the moments themselves, or -1.
+
+    Chosen: triangles without top bars whose only zero-moment side (zero_moment_sides) is a
+    free edge or an opening side with no line load on it. There m_n and m_nt vanish on the
+    side and V_n = m_n,n + 2 m_nt,t = 0 there, so m_n = O(lambda^2) and m_nt = O(lambda),
+    lambda the barycentric coordinate of the opposite vertex: N = D^-1 M D^-1 with
+    D = diag(1, lambda) in the side's (t, n) frame is a quadratic polynomial, and N positive
+    semi-definite at its control values gives M positive semi-definite on the whole triangle.
+    """
+    t = len(cap)
+    zero = zero_moment_sides(sd, cap)
+    count = np.bincount(sd.tri[zero], minlength=t)
+    free = zero & np.isin(sd.kind, FREE_KINDS) & np.all(sd.line_load == 0.0, axis=1)
+    pick = np.flatnonzero(free & (count[sd.tri] == 1))
+    out = np.full(t, -1)
+    out[sd.tri[pick]] = pick
+    return out
+
+
+def scaled_controls(local: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Control indices (m,) for triangles checked on side `local` (m,) (0, 1, 2):
+    i, j (its start and end vertices), v (the opposite vertex), ij (its own side control),
+    iv, jv (the controls of the other two sides, one step off it)."""
+    i, j = SIDES[local, 0], SIDES[local, 1]
+    v = 3 - i - j
+    return i, j, v, PAIR[i, j], PAIR[i, v], PAIR[j, v]

@@ -16,14 +16,14 @@ mesh that lie in the slab (elements.py holds the element definitions), as a cone
   sum over triangles of (m_nt of the side arriving - m_nt of the side leaving) = -P.
 - Boundary sides: free edges and openings m_n = 0 and V_n = q; simply supported edges and
   pinned faces of columns and walls m_n = 0; continuous edges and monolithic faces
-  -fixity m'_n <= m_n <= 0 (hogging restraint only, as the upper bound assumes).
+  -fixity m'_n <= m_n <= 0 (hogging restraint only, as the upper bound assumes; m_n = 0
+  where there are no top bars).
 - Yield: the Johansen/Nielsen criterion in the bar axes, (m_p1 - m_1)(m_p2 - m_2) >= m_12^2
   and (m_n1 + m_1)(m_n2 + m_2) >= m_12^2 with both factors >= 0, imposed at the 6 control
   values of each triangle: a quadratic triangle lies in the convex hull of its control
   values and the criterion is convex, so the field is admissible everywhere, not only
-  where checked. Each branch is a rotated quadratic cone: with a, b the two factors,
-  u = a + b >= |(a - b, 2 m_12)|. We impose u (1 - CONE_MARGIN) >= |(a - b, 2 m_12)|, a cone
-  just inside the true one, so that the solver's tolerance cannot carry the field outside.
+  where checked. Each branch is a rotated quadratic cone (cones.py, which also holds the
+  forms used where there are no top bars).
 
 Solver: the problem is a second-order cone program, solved by Clarabel's interior point
 method. We first wrote it as the linear program the literature uses (the circle replaced by
@@ -36,9 +36,9 @@ the exact criterion, from the field alone.
 Signs: w and loads positive downward; sagging moments positive (tension at the bottom).
 Units: m, kN, kNm/m, kPa.
 May import: `hingeline.model`, `hingeline.geometry`, `hingeline.errors`; never `hingeline.upper`.
-References: Krabbenhoft and Damkilde, Computers & Structures 80
-(2002), lower-bound limit analysis of slabs with quadratic equilibrium elements; Nielsen and
-Hoang, Limit Analysis and Concrete Plasticity (3rd ed., 2011), for the yield criterion.
+References: Krabbenhoft and Damkilde, Computers & Structures 80 (2002), lower-bound limit
+analysis of slabs with quadratic equilibrium elements; Nielsen and Hoang, Limit Analysis and
+Concrete Plasticity (3rd ed., 2011), for the yield criterion.
 """
 from __future__ import annotations
 
@@ -50,27 +50,23 @@ import clarabel
 import numpy as np
 from scipy import sparse
 
-from ..geometry.domain import (
-    FACE_PINNED,
-    FREE,
-    HOGGING_SUPPORT,
-    OPENING,
-    SIMPLE,
-    SUPPORTED,
-    Domain,
-)
+from ..geometry.domain import HOGGING_SUPPORT, SUPPORTED, Domain
 from ..model import Model
 from ..model.criterion import normal_capacity
+from .cones import tidy_controls, yield_conditions
 from .elements import (
+    FREE_KINDS,
     PAIR,
     SIDES,
+    ZERO_MN_KINDS,
     MomentField,
-    bar_rotation,
+    Sides,
     element_capacities,
     element_loads,
     gradients,
     hessians,
     kirchhoff_coeffs,
+    no_top_bars,
     node_values,
     normal_moment_coeffs,
     point_loads_at_nodes,
@@ -82,9 +78,18 @@ from .elements import (
 
 log = logging.getLogger(__name__)
 
-# Relative margin by which the imposed cone lies inside the true yield cone, so that
-# solver tolerances (about 1e-8) cannot carry the field outside the true criterion.
-CONE_MARGIN = 1e-6
+# Clarabel settings for a first solve and for solves again when the field fails its re-check.
+# Measured on random slabs without top bars at "coarse": about half ended "AlmostSolved" with
+# default settings, some with equilibrium residuals of 1e-5 to 1e-3 that fail the re-check; a
+# larger static regularisation, or tighter iterative refinement, solved most of them (the
+# first loses about 1e-5 of the load factor).
+SOLVER_SETTINGS = (
+    {},
+    {"static_regularization_constant": 1e-7},
+    {"iterative_refinement_reltol": 1e-14, "iterative_refinement_abstol": 1e-14, "iterative_refinement_max_iter": 20},
+)
+# Statuses whose iterate is not a moment field (a certificate of infeasibility instead).
+NO_FIELD = ("PrimalInfeasible", "DualInfeasible", "AlmostPrimalInfeasible", "AlmostDualInfeasible")
 
 
 class _Rows:
@@ -123,7 +128,8 @@ class _Rows:
 class ConeProgram:
     """maximise x[lam] subject to eq @ x = eq_rhs, ineq @ x <= ineq_rhs, x[lam] >= 0 and
     cone_rhs - cone @ x in a product of 3-dimensional second-order cones (u >= |(v, w)|).
-    Columns: 18 control values per triangle (control k, component c at 18 t + 3 k + c), lambda."""
+    Columns: 18 control values per triangle (control k, component c at 18 t + 3 k + c), lambda.
+    sides: the triangles' sides; cap: (t, 4) capacities per triangle (kNm/m)."""
 
     eq: sparse.csr_matrix
     eq_rhs: np.ndarray
@@ -132,6 +138,8 @@ class ConeProgram:
     cone: sparse.csr_matrix
     cone_rhs: np.ndarray
     lam: int
+    sides: Sides
+    cap: np.ndarray
 
 
 @dataclass(frozen=True, eq=False)
@@ -192,9 +200,14 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
         vals = np.concatenate([mine[inner].reshape(-1, 18), theirs[o].reshape(-1, 18), -qf[:, None]], axis=1)
         rows.add(cols, vals, qh)
 
-    # Boundary sides.
-    free = np.flatnonzero(np.isin(sd.kind, (FREE, OPENING)))
-    zero_mn = np.flatnonzero(np.isin(sd.kind, (FREE, OPENING, SIMPLE, FACE_PINNED)))
+    # Boundary sides. Continuous edges and monolithic faces: -fixity m'_n <= m_n <= 0. The
+    # support restrains hogging only, as in the upper bound, where rotation the other way costs
+    # nothing; without top bars that is m_n = 0, written as such.
+    cap = element_capacities(model, centroids)
+    no_top = no_top_bars(cap)[sd.tri]
+    held_kind = np.isin(sd.kind, HOGGING_SUPPORT)
+    free = np.flatnonzero(np.isin(sd.kind, FREE_KINDS))
+    zero_mn = np.flatnonzero(np.isin(sd.kind, ZERO_MN_KINDS) | (held_kind & no_top))
     for k in range(3):
         c = 18 * sd.tri[zero_mn, None] + 3 * ctrl[zero_mn, k, None] + np.arange(3)
         rows.add(c, mn[zero_mn], 0.0)
@@ -202,10 +215,7 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
         cols = np.concatenate([all18[free], np.full((len(free), 1), lam)], axis=1)
         vals = np.concatenate([vk[free].reshape(-1, 18), -q[free, 0, None]], axis=1)
         rows.add(cols, vals, q[free, 1])
-    # Continuous edges and monolithic faces: -fixity m'_n <= m_n <= 0. The support restrains
-    # hogging only, as in the upper bound, where rotation the other way costs nothing.
-    cap = element_capacities(model, centroids)
-    held = np.flatnonzero(np.isin(sd.kind, HOGGING_SUPPORT))
+    held = np.flatnonzero(held_kind & ~no_top)
     cap_held = cap[sd.tri[held]]
     hog = normal_capacity((cap_held[:, 2], cap_held[:, 3]), model.capacity.bar_angle, sd.normal[held])
     for k in range(3):
@@ -232,28 +242,16 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
                       np.concatenate([cols[keep].ravel(), np.full(len(used), lam)]),
                       np.concatenate([vals[keep].ravel(), pts[used, 0]]), -pts[used, 1])
 
-    # Yield at every control value: per branch (u, v, w) = const + K (m_1, m_2, m_12) in a cone,
-    # positive branch a = m_p1 - m_1, b = m_p2 - m_2; negative a = m_n1 + m_1, b = m_n2 + m_2.
-    R = bar_rotation(model.capacity.bar_angle)                       # (m1, m2, m12) = R m
-    npts = 6 * t
-    capp = np.repeat(cap, 6, axis=0)                                 # (6t, 4)
-    shrink = np.array([1.0 - CONE_MARGIN, 1.0, 1.0])
-    blocks, rhs = [], []
-    for sign, c1, c2 in ((-1.0, 0, 1), (1.0, 2, 3)):
-        K = shrink[:, None] * (np.array([[sign, sign, 0.0], [sign, -sign, 0.0], [0.0, 0.0, 2.0]]) @ R)
-        const = shrink * np.stack([capp[:, c1] + capp[:, c2], capp[:, c1] - capp[:, c2], np.zeros(npts)], axis=1)
-        r = np.repeat(np.arange(3 * npts), 3)
-        c = np.tile(np.arange(3), 3 * npts) + 3 * np.repeat(np.arange(npts), 9)
-        # The solver's form is s = rhs - A x in the cone, so A = -K.
-        blocks.append(sparse.csr_matrix((np.tile(-K.ravel(), npts), (r, c)), shape=(3 * npts, ncol)))
-        rhs.append(const.ravel())
+    cone, cone_rhs = yield_conditions(model, sd, cap, ncol, rows, ineq)
     eq, eq_rhs = rows.matrix()
     iq, iq_rhs = ineq.matrix()
-    return ConeProgram(eq, eq_rhs, iq, iq_rhs, sparse.vstack(blocks).tocsr(), np.concatenate(rhs), lam)
+    return ConeProgram(eq, eq_rhs, iq, iq_rhs, cone, cone_rhs, lam, sd, cap)
 
 
-def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles: np.ndarray) -> LowerBoundSolution:
-    """Best statically admissible field on the slab triangles of the mesh (nodes, triangles)."""
+def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles: np.ndarray,
+                      attempt: int = 0) -> LowerBoundSolution:
+    """Best statically admissible field on the slab triangles of the mesh (nodes, triangles),
+    solved with SOLVER_SETTINGS[attempt]."""
     t0 = time.perf_counter()
     tri = slab_triangles(nodes, triangles, domain)
     prob = assemble(model, domain, nodes, tri)
@@ -267,15 +265,16 @@ def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles
     cost[prob.lam] = -1.0
     settings = clarabel.DefaultSettings()
     settings.verbose = False
-    solver = clarabel.DefaultSolver(sparse.csc_matrix((ncol, ncol)), cost, A, b, cones, settings)
-    sol = solver.solve()
-    seconds = time.perf_counter() - t0
+    for key, value in SOLVER_SETTINGS[attempt].items():
+        setattr(settings, key, value)
+    sol = clarabel.DefaultSolver(sparse.csc_matrix((ncol, ncol)), cost, A, b, cones, settings).solve()
     word = str(sol.status)
-    log.info("lower bound: %d rows, %d columns, %s, %.2f s", A.shape[0], ncol, word, seconds)
-    # "AlmostSolved" (reduced accuracy) is kept: fieldcheck.py decides whether the field holds.
-    if word not in ("Solved", "AlmostSolved"):
+    log.info("lower bound: %d rows, %d columns, %s (attempt %d)", A.shape[0], ncol, word, attempt + 1)
+    seconds = time.perf_counter() - t0
+    # A field that is not "Solved" to full accuracy is kept: fieldcheck.py decides whether it holds.
+    if word in NO_FIELD:
         return LowerBoundSolution(None, None, A.shape[0], ncol, seconds, word)
     x = np.asarray(sol.x)
-    controls = x[:prob.lam].reshape(len(tri), 6, 3)
+    controls = tidy_controls(x[:prob.lam].reshape(len(tri), 6, 3), prob.sides, prob.cap)
     field = MomentField(nodes, tri, node_values(controls))
     return LowerBoundSolution(float(x[prob.lam]), field, A.shape[0], ncol, seconds, word)
