@@ -29,7 +29,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Polygon, Rectangle
 from matplotlib.tri import Triangulation
 
-from ..result import Result
+from ..result import LOAD_FACTOR_DIGITS, Result, load_factor_text
 
 SAGGING_COLOUR = "#8c1c13"
 HOGGING_COLOUR = "#1b3f8b"
@@ -371,7 +371,8 @@ def _w_ratio(result: Result) -> tuple[Triangulation | None, np.ndarray]:
 
 def _title(result: Result, what: str) -> str:
     title = result.model.title.strip()
-    lf_text = f"{what}  (load factor = {result.load_factor:.3f})" if what else f"load factor = {result.load_factor:.3f}"
+    lf = load_factor_text(result.load_factor, LOAD_FACTOR_DIGITS - 1)
+    lf_text = f"{what}  (load factor = {lf})" if what else f"load factor = {lf}"
     return f"{title}\n{lf_text}" if title else lf_text
 
 
@@ -383,7 +384,7 @@ def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
     openings, the mechanism's deflection w as grey shading with a colour bar
     ("normalised deflection"), the active yield lines (sagging solid dark red,
     hogging dash-dot dark blue, width growing with rotation), a legend in words,
-    and the title with the model title and "load factor = X.XXX". Never shows.
+    and the title with the model title and "load factor = X.XXX" (4 significant digits). Never shows.
     """
     if ax is None:
         ax = _new_axes()
@@ -524,14 +525,15 @@ def utilisation_points(result: Result) -> tuple[Triangulation, np.ndarray] | Non
 
 
 def _bounds_text(result: Result) -> str:
-    """'lower bound 1.4557 · upper bound 1.4877 · gap 2.2 %', or why there is no lower bound."""
+    """'lower bound 1.4557 · upper bound 1.4877 · gap 2.2 %' (5 significant digits), or why there
+    is no lower bound."""
     lb = result.lower_bound
-    upper = f"upper bound {result.load_factor:.4f}"
+    upper = f"upper bound {load_factor_text(result.load_factor)}"
     if lb is None:
         return f"lower bound not computed · {upper}"
     if lb.load_factor is None:
         return f"no lower bound ({lb.reason or lb.status}) · {upper}"
-    return f"lower bound {lb.load_factor:.4f} · {upper} · gap {100.0 * result.gap:.1f} %"
+    return f"lower bound {load_factor_text(lb.load_factor)} · {upper} · gap {100.0 * result.gap:.1f} %"
 
 
 def plot_utilisation(result: Result, ax: Axes | None = None):

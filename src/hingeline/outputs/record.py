@@ -30,7 +30,7 @@ import numpy as np
 
 from ..lower import EQUILIBRIUM_RTOL
 from ..model import RESOLUTIONS, Model
-from ..result import CAUTIONS, Result
+from ..result import CAUTIONS, LOAD_FACTOR_DIGITS, Result, load_factor_text
 from ..upper.certificate import work_per_load
 from .result_json import CERTIFICATE_RTOL, certificate_agrees, hingeline_version
 
@@ -395,29 +395,29 @@ def _lower_bound_section(res: Result, number: int, figure: int) -> str:
     if not lb["computed"]:
         out.append("<p id=\"lower-bound-none\">Lower bound: <b>not computed</b> for this result (the solve "
                    "was asked for the upper bound only). The true collapse factor is at or below the load "
-                   f"factor {lf:.4f}; how far below is not known from this record.</p>")
+                   f"factor {load_factor_text(lf)}; how far below is not known from this record.</p>")
         return "\n".join(out)
     held = (", with the held loads present at their given values"
             if any(not ld.factored for ld in res.model.loads) else "")
     lower = lb["load_factor"]
     if lower is None:
         out.append(f"<p id=\"lower-bound-none\" class=\"warn\">No lower bound: {_e(lb['reason'] or lb['status'])}.</p>"
-                   f"<p>The true collapse factor is at or below the load factor {lf:.4f}; how far below is not "
+                   f"<p>The true collapse factor is at or below the load factor {load_factor_text(lf)}; how far below is not "
                    "known from this record.</p>")
     else:
         gap = lb["gap"]
         out.append(
-            f"<div class=\"headline\">Lower bound <b id=\"lower-bound\" data-value=\"{lower!r}\">{lower:.4f}</b>"
+            f"<div class=\"headline\">Lower bound <b id=\"lower-bound\" data-value=\"{lower!r}\">{load_factor_text(lower)}</b>"
             f" · gap <b id=\"gap\" data-value=\"{gap!r}\">{100.0 * gap:.1f} %</b></div>")
         out.append(
-            f"<p>The slab carries at least <b>λ<sub>lower</sub> = {lower:.4f}</b> times the factored loads{held} "
-            f"(lower-bound theorem); the mechanism found fails at <b>{lf:.4f}</b> (upper bound). The true collapse "
+            f"<p>The slab carries at least <b>λ<sub>lower</sub> = {load_factor_text(lower)}</b> times the factored loads{held} "
+            f"(lower-bound theorem); the mechanism found fails at <b>{load_factor_text(lf)}</b> (upper bound). The true collapse "
             f"factor lies between the two; the gap, (upper − lower) / upper, is <b>{100.0 * gap:.1f} %</b>.</p>")
         if gap < 0:
             out.append("<p class=\"warn\">The lower bound is above the upper bound: one of the two is wrong. "
                        "Do not use this result (see the warnings, section 6).</p>")
         if lb["solved"] is not None and abs(lb["solved"] - lower) > 1e-12 * max(1.0, abs(lower)):
-            out.append(f"<p>The solver's optimum, {lb['solved']:.6f}, was scaled down by the largest yield ratio "
+            out.append(f"<p>The solver's optimum, {load_factor_text(lb['solved'], 7)}, was scaled down by the largest yield ratio "
                        "found on re-check, so that the field lies inside the exact criterion.</p>")
     out.append(_LOWER_METHOD)
     chk = lb["check"]
@@ -478,8 +478,8 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
              + "</ul></div>")
 
     held_words = ", with the held loads present at their given values" if has_held else ""
-    p.append(f"<div class=\"headline\">Load factor <b id=\"load-factor\" data-value=\"{lf!r}\">{lf:.3f}</b></div>")
-    p.append(f"<p>The factored loads can be multiplied by <b>{lf:.3f}</b> before the slab collapses by the "
+    p.append(f"<div class=\"headline\">Load factor <b id=\"load-factor\" data-value=\"{lf!r}\">{load_factor_text(lf, 4)}</b></div>")
+    p.append(f"<p>The factored loads can be multiplied by <b>{load_factor_text(lf, 4)}</b> before the slab collapses by the "
              f"mechanism shown{held_words}. This is an <b>upper bound</b>: the true collapse factor is at or "
              f"below this value. "
              + ("A value below 1 means the slab cannot carry the factored loads by this mechanism."
@@ -489,14 +489,14 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
     if res.case:
         p.append(f"<p>Load cases solved (the lowest governs; the record below is for "
                  f"<b>{_e(res.case)}</b>):</p><table><tr><th>case</th><th>load factor</th><th>lower bound</th></tr>"
-                 + "".join(f"<tr><td>{_e(n)}</td><td class=\"num\">{v:.4f}</td>"
-                           + (f"<td class=\"num\">{lb:.4f}</td>" if lb is not None else "<td>–</td>") + "</tr>"
+                 + "".join(f"<tr><td>{_e(n)}</td><td class=\"num\">{load_factor_text(v)}</td>"
+                           + (f"<td class=\"num\">{load_factor_text(lb)}</td>" if lb is not None else "<td>–</td>") + "</tr>"
                            for (n, v), lb in zip(res.cases, res.case_lower_bounds or (None,) * len(res.cases)))
                  + "</table>")
     better = [r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary]
     if better:
         b = min(better, key=lambda r: r["load_factor"])
-        p.append(f"<p class=\"warn\">A lower upper bound, {b['load_factor']:.3f}, was found at the "
+        p.append(f"<p class=\"warn\">A lower upper bound, {load_factor_text(b['load_factor'], 4)}, was found at the "
                  f"{_e(b['label'])} resolution (section 5). The lowest upper bound found governs.</p>")
 
     p.append(_model_section(model))
@@ -553,7 +553,7 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
     for r in rows:
         mark = " (reported)" if r["label"] == primary else ""
         p.append(f"<tr><td>{_e(r['label'])}{mark}</td><td class=\"num\">{r['mesh_size']:.3f}</td>"
-                 f"{_num(r['load_factor'], '.4f')}"
+                 f"{_num(r['load_factor'], f'#.{LOAD_FACTOR_DIGITS}g')}"
                  + (_num(r["lower_bound"], ".4f") if r["lower_bound"] is not None else "<td>–</td>")
                  + f"<td class=\"num\">{r['nodes']} ({r['slab_nodes']})</td>"
                  f"<td class=\"num\">{r['candidate_lines']} / {r['lp_lines']} / {r['active_lines']}</td>"
