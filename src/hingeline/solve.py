@@ -12,21 +12,22 @@ from dataclasses import replace
 import numpy as np
 import shapely
 
+from . import rescale
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import mesh_domain, mesh_size_for
 from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
-from .result import LowerBound, Result, SolveStats, Work
+from .model.scaling import Scales, dimensionless, scales_of, size_warning
+from .result import CertificateCheck, LowerBound, Result, SolveStats, Work
 from .upper.candidates import build_candidates
-from .upper.certificate import check_mechanism
+from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 from .upper.loadwork import island_rows, load_coefficients
 from .upper.lp import solve_lp
 from .upper.mechanism import build_mechanism, yield_lines
 
 log = logging.getLogger(__name__)
 
-CERTIFICATE_RTOL = 1e-6  # relative agreement required between LP and certificate
 VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
 # Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.2 GB (measured on random points).
 # The LP time grows faster still: 1068 nodes took 1 to 2.5 minutes.
@@ -42,19 +43,68 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
     size in m, overriding the resolution. Raises UnstableSlabError when the slab can
     collapse without resisting, SolverError when the LP fails.
+
+    Both bounds are solved in dimensionless units (model/scaling.py), so that no tolerance
+    depends on the slab's size or on the magnitude of its capacities and loads; the result
+    is in the model's units.
     """
     t0 = time.perf_counter()
     res = resolution or model.analysis.resolution
     if res not in RESOLUTIONS:
         raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
     size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
+    s = scales_of(model)
+    hint = size_warning(model)
+    try:
+        raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s)
+    except UnstableSlabError as err:
+        if hint is None:
+            raise
+        raise UnstableSlabError(f"{err}; {hint}") from None
 
+    lf = rescale.load_factor(raw.load_factor, s)
+    mech = rescale.mechanism(raw.mechanism, s)
+    # The certificate re-checks the mechanism as it is returned, against the model as given.
+    check = check_mechanism(model, mech)
+    w_max = float(np.abs(mech.w).max())
+    warnings = [*model.capacity.warnings, *([hint] if hint else [])]
+    if not certificate_agrees(lf, check, w_max):
+        warnings.append(
+            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
+            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / abs(lf):.1e}, "
+            f"factored-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
+            "of the largest |w|); the larger value is not reliable, report this model to the developers")
+    if mismatch > 1e-8 or support_w > 1e-8:
+        warnings.append(
+            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
+            f"|w| on supports reaches {support_w:.1e} (both relative to the largest |w|); report this model "
+            "to the developers")
+    warnings += raw.warnings
+    lb = None
+    if raw.lower_bound is not None:
+        lb = rescale.lower_bound(raw.lower_bound, s)
+        if lb.load_factor is not None and lb.load_factor > lf * (1 + CERTIFICATE_RTOL):
+            warnings.append(
+                f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
+                "wrong; report this model to the developers")
+    stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - t0)
+    log.info("load factor %.6g (certificate %.6g), %.2f s", lf, check.load_factor, stats.seconds)
+    return Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
+                  check, tuple(warnings), lower_bound=lb)
+
+
+def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales):
+    """The solve on `model` restated in the units `s` (model/scaling.py), with element size
+    `size` in those units. Returns (Result in those units, whose warnings are only those of
+    the line search and the lower bound; largest disagreement between planes meeting at a
+    vertex and largest |w| found on a supported edge, both relative to the largest |w|)."""
+    t0 = time.perf_counter()
     domain = build_domain(model, margin=size)
     mesh = mesh_domain(domain, model, size)
     nodes = mesh.nodes
     if len(nodes) > MAX_NODES:
         raise ModelError(
-            f"analysis.mesh_size = {size:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that "
+            f"analysis.mesh_size = {size * s.length:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that "
             "hingeline handles (candidate lines grow with the square of the nodes); use a larger "
             "mesh_size or resolution = \"fine\"")
     cand = build_candidates(nodes, domain, model)
@@ -82,7 +132,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
         if lf < -1e-7 * lf_scale:
             raise UnstableSlabError(
                 f"the slab cannot carry its held (unfactored) loads alone: the best mechanism has load "
-                f"factor {lf:.4g} < 0; reduce the held loads or add strength or supports")
+                f"factor {lf * s.load_factor:.4g} < 0; reduce the held loads or add strength or supports")
         raise UnstableSlabError(
             "the slab can move or fold without resisting (load factor 0): a mechanism exists that "
             "needs no internal work, e.g. a rigid rotation about a single supported edge or folding "
@@ -94,20 +144,9 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     internal = float(np.sum(np.where(theta > 0, cand.cost_plus * theta, -cand.cost_minus * theta)))
     held = float(g @ theta)
     factored = float(f @ theta)
-    check = check_mechanism(model, mech)
-
-    warnings = list(model.capacity.warnings)
-    if abs(check.load_factor - lf) > CERTIFICATE_RTOL * abs(lf):
-        warnings.append(
-            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
-            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / lf:.1e}); "
-            "the larger value is not reliable, report this model to the developers")
     w_max = float(np.abs(mech.w).max())
-    if mismatch > 1e-8 * w_max or support_w > 1e-8 * w_max:
-        warnings.append(
-            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
-            f"|w| on supports reaches {support_w:.1e} (largest |w| {w_max:.1e}); report this model "
-            "to the developers")
+
+    warnings = []
     if sol.max_violation > VIOLATION_TOL:
         warnings.append(
             f"the search for yield lines stopped before proving that no other node-to-node line "
@@ -118,10 +157,12 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
     stats = SolveStats(len(nodes), slab_nodes, len(cand), int(sol.in_lp.sum()), sol.rounds,
                        sol.max_violation, seconds, float(size))
-    log.info("load factor %.6f (certificate %.6f, plane mismatch %.1e), %.2f s",
-             lf, check.load_factor, mismatch, seconds)
-    return Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
-                  tuple(warnings), lower_bound=lb)
+    log.info("dimensionless load factor %.6f (plane mismatch %.1e), %.2f s", lf, mismatch, seconds)
+    # The certificate is checked by `solve` on the mechanism in the model's units.
+    check = CertificateCheck(float("nan"), internal, factored, held, 0.0)
+    result = Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
+                    tuple(warnings), lower_bound=lb)
+    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300)
 
 
 def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
@@ -165,10 +206,6 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
             value = sol.load_factor / chk.yield_ratio
     if value is None:
         warnings.append(f"no lower bound: {reason}")
-    elif value > upper * (1 + CERTIFICATE_RTOL):
-        warnings.append(
-            f"the lower bound {value:.6g} exceeds the load factor {upper:.6g}: one of the two is wrong; "
-            "report this model to the developers")
     log.info("lower bound %s (solver %.6f, %s, %.2f s)", value, sol.load_factor, sol.status, sol.seconds)
     return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, seconds, reason)
 

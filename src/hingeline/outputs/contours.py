@@ -18,7 +18,7 @@ from matplotlib.axes import Axes
 from matplotlib.colors import ListedColormap
 from matplotlib.tri import Triangulation
 
-from ..result import Result
+from ..result import Result, load_factor_text
 from .drawing import EDGE_COLOUR, closed_ring, new_axes, plan_extent, plot_title
 from .plan import (
     draw_openings,
@@ -193,12 +193,12 @@ def utilisation_points(result: Result) -> tuple[Triangulation, np.ndarray] | Non
 def _bounds_text(result: Result) -> str:
     """'lower bound 1.4557 · upper bound 1.4877 · gap 2.2 %', or why there is no lower bound."""
     lb = result.lower_bound
-    upper = f"upper bound {result.load_factor:.4f}"
+    upper = f"upper bound {load_factor_text(result.load_factor)}"
     if lb is None:
         return f"lower bound not computed · {upper}"
     if lb.load_factor is None:
         return f"no lower bound ({lb.reason or lb.status}) · {upper}"
-    return f"lower bound {lb.load_factor:.4f} · {upper} · gap {100.0 * result.gap:.1f} %"
+    return f"lower bound {load_factor_text(lb.load_factor)} · {upper} · gap {100.0 * result.gap:.1f} %"
 
 
 def plot_utilisation(result: Result, ax: Axes | None = None):

@@ -14,7 +14,7 @@ import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
-from ..result import Result
+from ..result import LOAD_FACTOR_DIGITS, Result, load_factor_text
 
 EDGE_COLOUR = "black"
 
@@ -69,5 +69,6 @@ def plan_extent(result: Result) -> tuple[np.ndarray, np.ndarray, np.ndarray, flo
 def plot_title(result: Result, what: str) -> str:
     """The model's title (if any) over `what` and the load factor to 3 decimals."""
     title = result.model.title.strip()
-    lf_text = f"{what}  (load factor = {result.load_factor:.3f})" if what else f"load factor = {result.load_factor:.3f}"
+    lf = load_factor_text(result.load_factor, LOAD_FACTOR_DIGITS - 1)
+    lf_text = f"{what}  (load factor = {lf})" if what else f"load factor = {lf}"
     return f"{title}\n{lf_text}" if title else lf_text

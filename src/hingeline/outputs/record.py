@@ -34,7 +34,7 @@ import jinja2
 import numpy as np
 
 from ..model import RESOLUTIONS, Model
-from ..result import CAUTIONS, Result
+from ..result import CAUTIONS, Result, load_factor_text
 from .record_model import model_tables
 from .record_tables import (
     cell,
@@ -152,7 +152,8 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
     if res.case:
         lowers = res.case_lower_bounds or (None,) * len(res.cases)
         cases = {"governing": res.case,
-                 "rows": [{"name": n, "load_factor": f"{v:.4f}", "lower_bound": None if lb is None else f"{lb:.4f}"}
+                 "rows": [{"name": n, "load_factor": load_factor_text(v),
+                           "lower_bound": None if lb is None else load_factor_text(lb)}
                           for (n, v), lb in zip(res.cases, lowers)]}
     better = min((r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary),
                  key=lambda r: r["load_factor"], default=None)
@@ -166,11 +167,11 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
         "primary": primary,
         "slab_nodes": res.stats.slab_nodes,
         "cautions": list(CAUTIONS),
-        "load_factor": cell(lf, ".3f"),
+        "load_factor": {"value": repr(lf), "text": load_factor_text(lf, 4)},
         "held": any(not ld.factored for ld in model.loads),
         "below_one": lf < 1,
         "cases": cases,
-        "better": None if better is None else {"load_factor": f"{better['load_factor']:.3f}",
+        "better": None if better is None else {"load_factor": load_factor_text(better['load_factor'], 4),
                                                 "label": better["label"]},
         "model": model_tables(model),
         "mechanism": {"lines": len(yl), "sagging": n_sag, "hogging": len(yl) - n_sag,

@@ -19,7 +19,7 @@ import numpy as np
 
 from ..lower import EQUILIBRIUM_RTOL
 from ..model import RESOLUTIONS, Model
-from ..result import Result
+from ..result import LOAD_FACTOR_DIGITS, Result, load_factor_text
 from ..upper.certificate import work_per_load
 from .result_json import CERTIFICATE_RTOL, certificate_agrees
 
@@ -168,7 +168,7 @@ def convergence_table(rows: list[dict], primary: str) -> dict:
     """Section 5 (resolution and convergence) from convergence_rows."""
     return {
         "rows": [{"label": r["label"], "reported": r["label"] == primary, "mesh_size": f"{r['mesh_size']:.3f}",
-                  "load_factor": cell(r["load_factor"], ".4f"),
+                  "load_factor": cell(r["load_factor"], f"#.{LOAD_FACTOR_DIGITS}g"),
                   "lower_bound": None if r["lower_bound"] is None else cell(r["lower_bound"], ".4f"),
                   "nodes": r["nodes"], "slab_nodes": r["slab_nodes"], "candidate_lines": r["candidate_lines"],
                   "lp_lines": r["lp_lines"], "active_lines": r["active_lines"], "rounds": r["rounds"],
@@ -197,14 +197,14 @@ def lower_bound_table(res: Result) -> dict:
     """Section 7 (lower bound) from lower_bound_summary, without its drawing."""
     lb = lower_bound_summary(res)
     lower, gap, solved, chk = lb["load_factor"], lb["gap"], lb["solved"], lb["check"]
-    out = {"computed": lb["computed"], "upper": f"{lb['upper']:.4f}",
+    out = {"computed": lb["computed"], "upper": load_factor_text(lb['upper']),
            "held": any(not ld.factored for ld in res.model.loads),
            "why_none": lb["reason"] or lb["status"], "lower": None, "check": None}
     if lower is not None:
         out["lower"] = {
-            "value": repr(lower), "text": f"{lower:.4f}", "gap": repr(gap), "gap_text": f"{100.0 * gap:.1f}",
+            "value": repr(lower), "text": load_factor_text(lower), "gap": repr(gap), "gap_text": f"{100.0 * gap:.1f}",
             "above_upper": gap < 0,
-            "solved": (f"{solved:.6f}" if solved is not None
+            "solved": (load_factor_text(solved, 7) if solved is not None
                        and abs(solved - lower) > 1e-12 * max(1.0, abs(lower)) else None)}
     if chk is not None:
         verdict = None

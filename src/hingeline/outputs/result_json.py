@@ -26,6 +26,8 @@ from typing import Any, Iterable
 import numpy as np
 
 from ..result import CAUTIONS, Result
+from ..upper.certificate import CERTIFICATE_RTOL
+from ..upper.certificate import certificate_agrees as agrees
 
 log = logging.getLogger(__name__)
 
@@ -43,8 +45,6 @@ PLOT_DPI = 150
 #: Plot size in inches (fits an A4 page with margins).
 PLOT_SIZE = (7.0, 5.5)
 
-#: Relative tolerance used by `certificate_agrees`.
-CERTIFICATE_RTOL = 1e-6
 
 UNITS = {
     "length": "m",
@@ -229,19 +229,12 @@ def _lower_bound_to_dict(result: Result) -> dict | None:
 
 
 def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
-    """True when the independent re-check matches the solve.
-
-    The re-computed load factor must equal result.load_factor within rtol (relative
-    to max(1, |load factor|)), and the largest |w| on supported edges must be at most
-    rtol times the largest |w| of the mechanism.
-    """
-    lf, chk = float(result.load_factor), result.certificate
-    if not (math.isfinite(lf) and math.isfinite(chk.load_factor)):
-        return False
-    scale = max(1.0, abs(lf))
+    """True when the independent re-check matches the solve: the same test as the solver's
+    warning (upper.certificate.certificate_agrees), on the result's load factor, certificate
+    and mechanism."""
     w = np.asarray(result.mechanism.w, dtype=float)
     w_max = float(np.max(np.abs(w))) if w.size else 0.0
-    return abs(chk.load_factor - lf) <= rtol * scale and chk.max_support_w <= rtol * max(w_max, 1e-300)
+    return agrees(result.load_factor, result.certificate, w_max, rtol)
 
 
 def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
