@@ -85,6 +85,8 @@ def test_bar_schedule_gives_sagging_in_direction_1_only():
         ({"top_1": {"diameter": 10, "spacing": 200, "cover": -5}},
          "capacity.bars.top_1.cover = -5 mm must not be negative"),
         ({"top_1": 10}, "capacity.bars.top_1 must be a table"),
+        ({"concrete": {}}, "capacity.bars.concrete = a table is not a known grade"),
+        ({"steel": ["B500B"]}, "capacity.bars.steel = ['B500B'] is not a known grade"),
     ],
 )
 def test_bad_bar_schedule(changes, expected):

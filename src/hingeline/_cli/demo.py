@@ -26,6 +26,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     model = model_from_toml(demo_text(), source="demo model")
+    report.check_outdir(args.outdir)
     from ..solve import solve
 
     result = solve(model)

@@ -1,12 +1,13 @@
 """Entry point of the `hingeline` command: argument parsing, logging, error mapping.
 
 Exit codes: 0 success; 1 `verify` found a stored result that does not re-check; 2 bad input (model errors, unstable slab, outputs that
-cannot be written, bad command-line arguments); 3 solver failure.
+cannot be written, bad command-line arguments); 3 solver failure; 141 stdout closed by its reader (e.g. piped into `head`).
 """
 from __future__ import annotations
 
 import argparse
 import logging
+import os
 import sys
 
 from ..errors import HingelineError, SolverError
@@ -25,6 +26,7 @@ COMMANDS = {
 EXIT_OK = 0
 EXIT_BAD_INPUT = 2
 EXIT_SOLVER = 3
+EXIT_BROKEN_PIPE = 141  # 128 + SIGPIPE: what a shell reports for a pipeline stage whose reader stopped
 
 
 def _version() -> str:
@@ -66,6 +68,19 @@ def _setup_logging(verbose: bool) -> None:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the `hingeline` command with `argv` (default sys.argv[1:]); return the exit code."""
+    try:
+        code = _dispatch(argv)
+        sys.stdout.flush()  # inside the try: a reader that stopped shows up here, not at exit
+        return code
+    except BrokenPipeError:
+        # The reader of stdout stopped (`hingeline solve ... | head -1`): end quietly. Point
+        # stdout at /dev/null so the interpreter's final flush does not raise again.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return EXIT_BROKEN_PIPE
+
+
+def _dispatch(argv: list[str] | None) -> int:
     parser = build_parser()
     try:
         args = parser.parse_args(argv)

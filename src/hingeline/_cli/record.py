@@ -9,7 +9,7 @@ import argparse
 from pathlib import Path
 
 from ..model import RESOLUTIONS, read_model
-from .report import OutputError
+from .report import OutputError, check_outdir
 
 HELP = ("solve a model file at several resolutions and write the calculation record "
         "OUTDIR/report.html (one self-contained page)")
@@ -26,6 +26,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
+    check_outdir(args.outdir)
     from ..outputs.record import write_report  # imported late: reading the model needs no solver
 
     try:

@@ -1,6 +1,7 @@
 """Printing shared by the subcommands (stdout only; the library never prints)."""
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -11,6 +12,24 @@ from ..result import Result, load_factor_text
 
 class OutputError(HingelineError):
     """The output folder cannot be written (exit code 2)."""
+
+
+def check_outdir(outdir: Path) -> None:
+    """Refuse, before any solve, an output folder that cannot be written: a path naming an
+    existing file, or a folder (or its nearest existing parent) without write permission."""
+    path = Path(outdir)
+    if path.exists() and not path.is_dir():
+        raise OutputError(f"output folder '{outdir}' is an existing file, not a folder; "
+                          "choose another folder with -o")
+    probe = path.absolute()
+    while not probe.exists():
+        probe = probe.parent
+    if not probe.is_dir():
+        raise OutputError(f"output folder '{outdir}': '{probe}' is a file, so the folder cannot be "
+                          "created; choose another folder with -o")
+    if not os.access(probe, os.W_OK | os.X_OK):
+        raise OutputError(f"output folder '{outdir}': no permission to write in '{probe}'; "
+                          "choose another folder with -o")
 
 
 def print_summary(result: Result, paths: list[Path], out=None) -> None:

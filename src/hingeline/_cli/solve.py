@@ -56,6 +56,7 @@ def write_files(result: Result, outdir: Path) -> list[Path]:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
+    report.check_outdir(args.outdir)
     from ..solve import solve_cases  # imported late: reading the model needs no solver
 
     result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size,

@@ -57,7 +57,8 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
     for key, table in (("concrete", eurocode.CONCRETE), ("steel", eurocode.STEEL)):
         if key not in t:
             raise Invalid(f"[capacity.bars] has no {key}; add {key} = one of {words(table)}")
-        if t[key] not in table:
+        # A grade is a name: a table or list typed here is refused like an unknown name.
+        if not isinstance(t[key], str) or t[key] not in table:
             raise Invalid(f"capacity.bars.{key} = {show(t[key])} is not a known grade; use one of {words(table)}")
     factors = {k: number(t.get(k, d), f"capacity.bars.{k}", "") for k, d in
                (("gamma_c", 1.5), ("gamma_s", 1.15), ("alpha_cc", 1.0))}

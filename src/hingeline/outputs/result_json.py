@@ -262,7 +262,10 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
     the mechanism's w / w_max (plot.plot_deflection).
     Everything is rendered in memory before the folder is created and each file is
     written to a temporary name and then renamed, so a failure leaves no half-written
-    output. Existing files of the same names are replaced.
+    output. Existing files of the same names are replaced, and the files this function
+    writes that the result does not produce this time (a utilisation drawing when the
+    lower bound was skipped, a format not asked for) are removed, so the folder never
+    holds drawings of an earlier run beside a new result.json.
     Raises ValueError for an unknown format, OSError when the folder cannot be written.
     """
     formats = tuple(formats)
@@ -296,5 +299,15 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
         for tmp, _ in tmp_paths:
             if tmp.exists():
                 tmp.unlink()
+    for stale in stale_outputs(out, {name for name, _ in blobs}):
+        stale.unlink()
+        log.info("removed %s (from an earlier run)", stale)
     log.info("wrote %s", ", ".join(str(p) for p in written))
     return written
+
+
+def stale_outputs(outdir: Path, current: set[str]) -> list[Path]:
+    """Files in `outdir` with a name write_outputs uses (result.json, KIND.FORMAT) that are
+    not among `current`, the names just written."""
+    names = {f"{kind}.{fmt}" for kind in PLOT_KINDS for fmt in PLOT_FORMATS} | {"result.json"}
+    return [outdir / n for n in sorted(names - current) if (outdir / n).is_file()]
