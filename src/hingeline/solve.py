@@ -12,7 +12,7 @@ from dataclasses import replace
 import numpy as np
 import shapely
 
-from . import rescale
+from . import rescale, review
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import mesh_domain, mesh_size_for
@@ -87,6 +87,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             warnings.append(
                 f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
                 "wrong; report this model to the developers")
+    warnings += [*review.continuous_without_hogging(model), *review.wide_gap(lf, lb), *review.uplift(mech)]
     stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - t0)
     log.info("load factor %.6g (certificate %.6g), %.2f s", lf, check.load_factor, stats.seconds)
     return Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
