@@ -19,6 +19,7 @@ from .geometry.domain import build_domain
 from .lower import FieldCheck, MomentField, check_field
 from .model import Model, model_for_case
 from .result import CertificateCheck, Mechanism
+from .stored import model_differences, number_errors, yield_line_errors
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 
 # Relative agreement required between a stored load factor and its re-check.
@@ -31,7 +32,9 @@ class Verification:
     lower: lower bound stored (None if none); lower_check: FieldCheck of the stored field at
     the stored solver optimum `solved` (None without a field); proven: the load factor the
     field proves (solved / max(1, yield ratio) when in equilibrium, else None);
-    w_max: largest |w| of the stored mechanism, m/kNm."""
+    w_max: largest |w| of the stored mechanism, m/kNm; stored_errors: every other stored
+    number that disagrees with its re-check (yield lines, certificate, work, gap; see
+    stored.py), one message each."""
 
     upper: float
     upper_check: CertificateCheck
@@ -40,6 +43,7 @@ class Verification:
     lower_check: FieldCheck | None
     proven: float | None
     w_max: float
+    stored_errors: tuple[str, ...] = ()
 
     @property
     def upper_agrees(self) -> bool:
@@ -54,7 +58,7 @@ class Verification:
 
     @property
     def ok(self) -> bool:
-        return self.upper_agrees and self.lower_holds
+        return self.upper_agrees and self.lower_holds and not self.stored_errors
 
 
 def read_result(path: str | Path) -> dict:
@@ -65,9 +69,14 @@ def read_result(path: str | Path) -> dict:
         raise ModelError(f"result file '{path}': cannot be read as JSON ({exc})") from None
 
 
+class ForeignResult(ModelError):
+    """The result was solved for another model than the one given (`verify` exit 1)."""
+
+
 def verify_result(model: Model, data: dict, where: str = "result.json") -> Verification:
     """Re-check the result `data` (result.json as a dict) of `model` (the model file as read;
-    the governing load case is taken from data["case"])."""
+    the governing load case is taken from data["case"]). Raises ForeignResult when the
+    model stored in the result is not `model`, ModelError when `data` is not a result."""
     try:
         if data.get("case") is not None:
             case = next((c for c in model.cases if c.name == data["case"]), None)
@@ -88,7 +97,12 @@ def verify_result(model: Model, data: dict, where: str = "result.json") -> Verif
     except (KeyError, TypeError, ValueError) as exc:
         raise ModelError(f"{where}: not a hingeline result ({type(exc).__name__}: {exc})") from None
 
+    foreign = model_differences(model, data.get("model"))
+    if foreign:
+        raise ForeignResult(f"{where}: {foreign[0]}")
     upper_check = check_mechanism(model, mechanism)
+    stored = (*yield_line_errors(model, mechanism, data.get("yield_lines") or [], RTOL),
+              *number_errors(data, upper_check, RTOL))
     lower = solved = lower_check = proven = None
     if lb and lb.get("load_factor") is not None:
         lower, solved = float(lb["load_factor"]), float(lb["solved"])
@@ -97,4 +111,4 @@ def verify_result(model: Model, data: dict, where: str = "result.json") -> Verif
         if lower_check.in_equilibrium:
             proven = solved / max(1.0, lower_check.yield_ratio)
     w_max = float(np.abs(mechanism.w).max(initial=0.0))
-    return Verification(upper, upper_check, lower, solved, lower_check, proven, w_max)
+    return Verification(upper, upper_check, lower, solved, lower_check, proven, w_max, stored)

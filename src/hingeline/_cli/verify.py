@@ -5,7 +5,7 @@ import argparse
 from pathlib import Path
 
 from ..model import read_model
-from ..verify import read_result, verify_result
+from ..verify import ForeignResult, read_result, verify_result
 
 HELP = ("re-check a result.json against its model file without solving: the mechanism by the work "
         "equation and the lower-bound moment field by equilibrium and yield (exit 1 if either fails)")
@@ -20,7 +20,12 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
-    v = verify_result(model, read_result(args.result), where=str(args.result))
+    try:
+        v = verify_result(model, read_result(args.result), where=str(args.result))
+    except ForeignResult as exc:
+        print(f"{model.title or args.model}")
+        print(f"verdict       the stored result does NOT belong to this model file: {exc}")
+        return EXIT_CHECK_FAILED
     c = v.upper_check
     print(f"{model.title or args.model}")
     print(f"upper bound   stored {v.upper:.8g}, re-checked from the mechanism {c.load_factor:.8g} "
@@ -37,5 +42,7 @@ def run(args: argparse.Namespace) -> int:
                   f"{fc.relative:.1e} (relative), largest yield ratio {fc.yield_ratio:.9f}, proves "
                   f"{'nothing' if v.proven is None else f'{v.proven:.8g}'}: "
                   f"{'holds' if v.lower_holds else 'DOES NOT HOLD'}")
+    for message in v.stored_errors:
+        print(f"stored number DOES NOT RE-CHECK: {message}")
     print("verdict       " + ("the stored result re-checks" if v.ok else "the stored result does NOT re-check"))
     return 0 if v.ok else EXIT_CHECK_FAILED

@@ -25,6 +25,7 @@ from typing import Any, Iterable
 
 import numpy as np
 
+from ..model import Model
 from ..result import CAUTIONS, Result
 from ..upper.certificate import CERTIFICATE_RTOL
 from ..upper.certificate import certificate_agrees as agrees
@@ -94,8 +95,8 @@ def _plain(value: Any) -> Any:
     raise TypeError(f"cannot convert {type(value).__name__} to JSON")
 
 
-def _model_to_dict(result: Result) -> dict:
-    model = result.model
+def model_to_dict(model: Model) -> dict:
+    """The model as result.json stores it (key "model")."""
     slab, cap = model.slab, model.capacity
     return {
         "outline": _floats(slab.outline),
@@ -192,7 +193,7 @@ def result_to_dict(result: Result) -> dict:
         },
         "stats": _fields(result.stats),
         "certificate": _fields(result.certificate),
-        "model": _model_to_dict(result),
+        "model": model_to_dict(result.model),
         "warnings": [str(w) for w in result.warnings],
         "cautions": list(CAUTIONS),
         "case": result.case,

@@ -79,6 +79,12 @@ def _tolerance(model: Model) -> float:
 
 def internal_work(model: Model, mech: Mechanism) -> float:
     """Plastic work of the field's slope jumps, kNm."""
+    return float(hinges(model, mech)[3].sum())
+
+
+def hinges(model: Model, mech: Mechanism) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Every interior triangle edge of the field and every edge on a support, as (start
+    (h, 2) m, end (h, 2) m, theta (h,) rad, > 0 sagging, plastic work (h,) kNm)."""
     V, T, w = mech.vertices, mech.triangles, mech.w
     g, _ = _gradients(V, T, w)
     ntri = len(T)
@@ -115,7 +121,7 @@ def internal_work(model: Model, mech: Mechanism) -> float:
     side = np.sign(((V[opp[first + 1]] - V[a]) * n).sum(1))
     nu = n * side[:, None]
     theta = -((g[tri[first + 1]] - g[tri[first]]) * nu).sum(1)
-    total = np.sum(L * np.where(theta > 0, mp * theta, -mm * theta))
+    out = [(V[a], V[b], theta, L * np.where(theta > 0, mp * theta, -mm * theta))]
 
     # Boundary edges: supported ones hinge against the flat ground (w = 0, zero slope).
     idx = np.flatnonzero(single)
@@ -124,17 +130,17 @@ def internal_work(model: Model, mech: Mechanism) -> float:
     tol = _tolerance(model)
     on = (segment_distance(V[a], sup_edges) <= tol) & (segment_distance(V[b], sup_edges) <= tol)
     factor = (on * share[None, :]).max(axis=1, initial=0.0)
-    cont = factor > 0
-    if cont.any():
-        a, b, idx = a[cont], b[cont], idx[cont]
+    sup = on.any(axis=1)
+    if sup.any():
+        a, b, idx = a[sup], b[sup], idx[sup]
         L, mp, mm, n = geometry(a, b)
-        mm = mm * factor[cont]
+        mm = mm * factor[sup]
         side = np.sign(((V[opp[idx]] - V[a]) * n).sum(1))
         nu = n * side[:, None]           # into the slab
         theta = -(g[tri[idx]] * nu).sum(1)
         # Uplift next to a support (theta > 0) is taken as free (conservative).
-        total += np.sum(L * np.where(theta < 0, -mm * theta, 0.0))
-    return float(total)
+        out.append((V[a], V[b], theta, L * np.where(theta < 0, -mm * theta, 0.0)))
+    return tuple(np.concatenate(parts) for parts in zip(*out))
 
 
 def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
