@@ -1,6 +1,6 @@
 """Checks applied to every solve in the suite.
 
-Issue 4: on every model the suite solves, the lower bound must not exceed the load factor
+On every model the suite solves, the lower bound must not exceed the load factor
 (the lower-bound and upper-bound theorems bracket the same collapse factor; a violation is a
 bug in one of the two), and the field behind it must re-check as in equilibrium and inside
 the capacities (fieldcheck.py). Wrapping the solver's lower-bound step applies this to every

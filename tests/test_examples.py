@@ -3,8 +3,7 @@
 The check reads only the written files: the model file and OUTDIR/result.json.
 It recomputes internal work from the slope jumps of the P1 field and the load
 work by exact integration (certificate.py), and requires the load factor to
-agree with the solver's to 1e-6 relative and w = 0 on every supported edge
-(issue 5; shared/design/solver.md section 4).
+agree with the solver's to 1e-6 relative and w = 0 on every supported edge.
 """
 import json
 from importlib import resources
@@ -50,7 +49,7 @@ def test_example_certificate(path, tmp_path):
     dissipation = sum(line["dissipation"] for line in data["yield_lines"])
     assert dissipation == pytest.approx(data["work"]["internal"], rel=1e-6)
 
-    # The lower bound re-checks from result.json alone (issue 4): the stored moment field is in
+    # The lower bound re-checks from result.json alone: the stored moment field is in
     # equilibrium with the solver's optimum and inside the capacities, so the reported bound
     # holds, and it lies below the load factor (lower- and upper-bound theorems).
     lb = data["lower_bound"]

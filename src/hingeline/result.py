@@ -108,11 +108,11 @@ class CertificateCheck:
 
 @dataclass(frozen=True, eq=False)
 class LowerBound:
-    """Outcome of the lower-bound stage (lowerbound.py), re-checked by fieldcheck.py.
+    """Outcome of the lower-bound stage (lower/program.py), re-checked by lower/fieldcheck.py.
 
     load_factor: a load factor the slab is proven to carry (None when no field passed
         the re-check: see `reason`); field: the statically admissible moment field
-        (lowerbound.MomentField); check: fieldcheck.FieldCheck of that field;
+        (lower.MomentField); check: lower.FieldCheck of that field;
         solved: the solver's optimum before the re-check; status: the solver's status;
         seconds: wall time; reason: why load_factor is None, else "".
     """

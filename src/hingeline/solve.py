@@ -38,7 +38,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
           lower_bound: bool = True) -> Result:
     """Find the collapse mechanism of `model` with the lowest load factor and, unless
     lower_bound is False, a lower bound from a statically admissible moment field on the
-    same mesh (see lowerbound.py).
+    same mesh (see lower/program.py).
 
     resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
     size in m, overriding the resolution. Raises UnstableSlabError when the slab can

@@ -329,7 +329,7 @@ def test_solve_end_to_end_with_solver(tmp_path, capsys):
 def test_design_command_prints_the_scale(tmp_path, capsys):
     # Johansen: the simply supported square (m' = m) carries 24 m / L^2; 48 kPa on a 1 m square
     # with m = 1 kNm/m therefore needs a capacity scale of 2 (checked to 1e-6 in
-    # tests/validation/test_design.py; here the command's printing and exit code).
+    # tests/design/test_design.py; here the command's printing and exit code).
     model = write_model(tmp_path, """
 [slab]
 outline = [[0, 0], [1, 0], [1, 1], [0, 1]]

@@ -78,7 +78,7 @@ def test_safe_scale_is_proven_by_the_lower_bound():
     # target x the loads exists, so the lower bound of the scaled slab reaches the target
     # (moments and load factor scale together; same mesh). Johansen's 24 m / L^2 for the square
     # (module test above) puts the exact scale at 2, so 2 <= safe_scale; within 2 % at "coarse"
-    # for this square (issue 4's tolerance at "normal", measured 0.04 % at "coarse").
+    # for this square (the lower bound's tolerance at "normal", measured 0.04 % at "coarse").
     text = SQUARE
     d = required_scale(hingeline.model_from_toml(text))
     assert 2.0 <= d.safe_scale <= 2.0 * 1.02

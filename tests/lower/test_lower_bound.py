@@ -1,8 +1,8 @@
-"""The lower bound (issue 4) against closed-form collapse loads and the virtual-work principle.
+"""The lower bound against closed-form collapse loads and the virtual-work principle.
 
 By the lower-bound theorem the value must lie at or below the exact collapse factor; the
-issue sets how close it must come at resolution "normal". Unit slabs, q = 1 kPa, so load
-factors are coefficients of m / L^2. conftest.py adds to every solve of the suite that the
+tests below also state how close it must come at resolution "normal". Unit slabs, q = 1 kPa,
+so load factors are coefficients of m / L^2. conftest.py adds to every solve of the suite that the
 lower bound is at or below the load factor and that its field re-checks.
 """
 import math
@@ -26,14 +26,14 @@ def lower(m, res="normal"):
 
 def test_simply_supported_square():
     # Exact 24 m/L^2 (Johansen's diagonal pattern; a static field reaching it exists, Nielsen &
-    # Hoang, Limit Analysis and Concrete Plasticity - recalled). Issue 4: within 2 % at "normal".
+    # Hoang, Limit Analysis and Concrete Plasticity - recalled). Target: within 2 % at "normal".
     lb, r = lower(model(SQUARE, "simple"))
     assert 24.0 * 0.98 <= lb <= 24.0
     assert r.gap < 0.02
 
 
 def test_clamped_square():
-    # 42.851 m/L^2 for m' = m: Fox, Phil. Trans. R. Soc. A 277 (1974). Issue 4: within 3 %.
+    # 42.851 m/L^2 for m' = m: Fox, Phil. Trans. R. Soc. A 277 (1974). Target: within 3 %.
     lb, r = lower(model(SQUARE, "continuous"))
     assert 42.851 * 0.97 <= lb <= 42.851
     assert r.gap < 0.03
@@ -41,7 +41,7 @@ def test_clamped_square():
 
 def test_regular_polygon():
     # A regular 24-gon of inradius r = 1, simply supported: its collapse factor is at most
-    # 6 m / r^2 (pyramid mechanism, the circle's exact value; test_reference.py). Issue 4: within 3 %.
+    # 6 m / r^2 (pyramid mechanism, the circle's exact value; test_reference.py). Target: within 3 %.
     n = 24
     R = 1.0 / math.cos(math.pi / n)
     pts = [[round(R * math.cos(2 * math.pi * k / n), 12), round(R * math.sin(2 * math.pi * k / n), 12)]

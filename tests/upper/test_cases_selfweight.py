@@ -59,7 +59,7 @@ def test_cases_are_solved_and_the_lowest_governs():
     assert set(table) == {"both bays", "left bay only"}
     assert r.load_factor == min(table.values()) and table[r.case] == r.load_factor
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
-    # Issue 4: every case carries its own lower bound, below its own load factor (the two theorems
+    # Every case carries its own lower bound, below its own load factor (the two theorems
     # per case); the governing result's lower bound is its case's.
     lowers = dict(zip(table, r.case_lower_bounds))
     assert all(0 < lowers[n] <= table[n] * (1 + 1e-6) for n in table)

@@ -126,10 +126,10 @@ def test_edge_runs_equal_added_vertices():
 
 
 def test_partial_fixity_lies_between_simple_and_continuous():
-    # Solver.md section 5: continuous edges with m' = m give exactly twice the simply supported
-    # load factor with m' = 0 (24 -> 48 m/L^2 scale for the square); a fixity f mobilises f m' on
-    # the edges, so the load factor lies between the simple and the fully fixed values, and f = 0
-    # is the simple edge.
+    # Continuous edges with m' = m give exactly twice the simply supported load factor with
+    # m' = 0 (24 -> 48 m/L^2 scale for the square; docs/method.md, Known traps); a fixity f
+    # mobilises f m' on the edges, so the load factor lies between the simple and the fully
+    # fixed values, and f = 0 is the simple edge.
     fixed = hingeline.solve(hingeline.model_from_toml(RUNS.format(edges='"continuous"')))
     half = hingeline.solve(hingeline.model_from_toml(RUNS.format(
         edges='[{type = "continuous", fixity = 0.5}, {type = "continuous", fixity = 0.5}, '

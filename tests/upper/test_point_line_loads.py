@@ -25,7 +25,7 @@ resolution = "{res}"
 
 def test_point_load_fan_on_clamped_slab():
     # Fan mechanism under a concentrated load far from edges: P = 2 pi (m + m') (Johansen's
-    # yield-line theory, the circular fan; solver.md section 5). An upper bound that DLO
+    # yield-line theory, the circular fan). An upper bound that DLO
     # approaches with refinement: measured +1.9 % at "coarse", +0.9 % at "normal".
     exact = 2 * math.pi * (1.0 + 1.0)
     r = hingeline.solve(hingeline.model_from_toml(CLAMPED_POINT.format(res="coarse")))

@@ -2,7 +2,7 @@
 
 Each case is a unit slab (lengths m, q = 1 kPa), so the load factor is the
 coefficient of m / L^2. Yield-line analysis gives upper bounds: every result
-must lie at or above the exact value (0.1 % allowed for round-off, issue 5) and
+must lie at or above the exact value (0.1 % allowed for round-off) and
 within a resolution-dependent margin above it. benchmarks/reference.py measures
 the same cases at finer resolutions.
 """
@@ -29,7 +29,7 @@ def test_simply_supported_square():
 
 def test_clamped_square_normal():
     # 42.851 m/L^2 for m' = m: Fox, Phil. Trans. R. Soc. A 277 (1974), exact for the square
-    # yield criterion. Issue 5 target at "normal": within 1.5 %.
+    # yield criterion. Target at "normal": within 1.5 %.
     r = hingeline.solve(model(SQUARE, "continuous", resolution="normal"))
     assert_upper_bound(r.load_factor, 42.851, 0.015)
 
@@ -44,7 +44,7 @@ def test_rectangle_1x2_johansen():
 
 def test_square_with_free_edge():
     # Three edges simply supported, one free: Johansen's pattern is half of the 1 x 2 rectangle,
-    # 14.1407 m/L^2 (solver.md section 5). The free edge needs the fill strip to work.
+    # 14.1407 m/L^2. The free edge needs the fill strip to work.
     r = hingeline.solve(model(SQUARE, ["simple", "simple", "free", "simple"]))
     assert_upper_bound(r.load_factor, johansen_rectangle(1.0, 2.0), 0.02)
 
@@ -81,8 +81,9 @@ L_SHAPE = [[0, 0], [3, 0], [3, 1.5], [1.5, 1.5], [1.5, 3], [0, 3]]
 
 def test_clamped_is_twice_simple_without_top_bars():
     # For a slab supported all round with isotropic capacities, continuous edges with m' = m give
-    # exactly twice the load factor of simple edges with m' = 0 (solver.md section 5: over any
-    # mechanism vanishing on the outline, sagging and hogging rotations have equal weighted sums).
+    # exactly twice the load factor of simple edges with m' = 0 (docs/method.md, Known traps:
+    # over any mechanism vanishing on the outline, sagging and hogging rotations have equal
+    # weighted sums).
     # Holds for the discrete problem too (same candidate lines), so the tolerance is tight.
     simple = hingeline.solve(model(L_SHAPE, "simple", hogging=0.0))
     clamped = hingeline.solve(model(L_SHAPE, "continuous", hogging=1.0))
@@ -115,18 +116,19 @@ HOLED_DIAGONAL = 6.4 / (4 * (0.4**2 - 4 * 0.4**3 / 3))
 
 def test_opening_hand_mechanism_is_an_upper_bound():
     # The optimum over all mechanisms cannot exceed one particular mechanism that the candidate
-    # lines can represent. A formulation that mishandles openings is not bound by this (solver.md:
-    # deleting lines across an opening gave results far off in either direction).
+    # lines can represent. A formulation that mishandles openings is not bound by this (deleting
+    # lines across an opening gives results far off in either direction: docs/method.md, Known
+    # traps). The lower limit guards against far-too-low values (e.g. 8.25) of such a fault.
     assert HOLED_DIAGONAL == pytest.approx(21.4286, abs=1e-4)
     r = hingeline.solve(hingeline.model_from_toml(HOLED))
     assert r.load_factor <= HOLED_DIAGONAL * (1 + 1e-9)
-    assert r.load_factor > 0.5 * HOLED_DIAGONAL  # guards against the 8.25-type failure of solver.md
+    assert r.load_factor > 0.5 * HOLED_DIAGONAL
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
 
 
 def test_certificate_reproduces_hand_mechanisms():
     # check_mechanism on hand-built fields: the clamped square's diagonal pattern gives 48 m/L^2
-    # (textbook result, solver.md section 5), the simply supported one 24 m/L^2, and the holed
+    # (textbook result), the simply supported one 24 m/L^2, and the holed
     # square's diagonal mechanism the hand value above.
     from hingeline.result import Mechanism
 

@@ -29,7 +29,7 @@ def solve(**kw):
 
 
 def test_zone_over_the_whole_slab_equals_the_slab_with_its_capacity():
-    # Issue 2: a zone covering everything is the slab with the zone's capacity (definition). The
+    # A zone covering everything is the slab with the zone's capacity (definition). The
     # zone boundary coincides with the outline, so the meshes and candidate lines are the same.
     whole = '[[zone]]\npolygon = [[0, 0], [3, 0], [3, 2], [0, 2]]\nsagging = 8.0\nhogging = 8.0'
     zoned = solve(zones=whole)

@@ -11,7 +11,7 @@ where lambda_all is the ordinary load factor of the slab under the single load
 set (target x factored loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
 scale truly needed: a finer resolution usually raises it.
 
-The same solve gives a lower bound lambda_lower <= lambda_all (lowerbound.py); by the
+The same solve gives a lower bound lambda_lower <= lambda_all (lower/program.py); by the
 lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
 (moments and loads both scale with s). The scale truly needed lies in [s, s_safe].
 

@@ -129,7 +129,7 @@ class Sides:
     a, b: (s,) global nodes at its start and end (counter-clockwise round the triangle).
     normal, tangent: (s, 2) outward unit normal and unit tangent from a to b; length: (s,) m.
     partner: (s,) index of the same side seen from the neighbouring triangle, -1 on the boundary.
-    kind: (s,) boundary kind code (geometry.py) of boundary sides, -1 inside.
+    kind: (s,) boundary kind code (geometry/domain.py) of boundary sides, -1 inside.
     fixity: (s,) hogging share of continuous edges (1 elsewhere).
     line_load: (s,) line load along the side, kN/m (factored, held) -> (s, 2).
     """

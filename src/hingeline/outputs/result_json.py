@@ -259,8 +259,9 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
     first, then the plots format by format).
 
     formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
-    pattern: the yield-line plan (plot.plot_pattern); deflection: the contour plan of
-    the mechanism's w / w_max (plot.plot_deflection).
+    pattern: the yield-line plan (plots.plot_pattern); deflection: the contour plan of
+    the mechanism's w / w_max (plots.plot_deflection); utilisation: the yield ratio of the
+    lower bound's field (plots.plot_utilisation).
     Everything is rendered in memory before the folder is created and each file is
     written to a temporary name and then renamed, so a failure leaves no half-written
     output. Existing files of the same names are replaced, and the files this function
