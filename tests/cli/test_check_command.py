@@ -56,3 +56,27 @@ def test_cli_compare(tmp_path, capsys):
     solved = float(line.rsplit("=", 1)[1])
     pct = 100 * (24.0 - solved) / solved
     assert f"{abs(pct):.2f} %" in out
+
+
+def test_cli_check_takes_the_load_cases_one_by_one(tmp_path, capsys):
+    # Diagonal pattern on the simply supported unit square (Johansen): load factor 24 m / (q L^2).
+    # Case "heavy" (3 kPa) gives 8, case "light" (2 kPa) 12; both loads at once (5 kPa) would give
+    # 4.8, a load no case applies.
+    model = tmp_path / "cases.toml"
+    model.write_text('[slab]\noutline = [[0, 0], [1, 0], [1, 1], [0, 1]]\nedges = "simple"\n'
+                     '[capacity]\nsagging = 1.0\n'
+                     '[[load]]\ntype = "area"\nname = "light"\nvalue = 2.0\n'
+                     '[[load]]\ntype = "area"\nname = "heavy"\nvalue = 3.0\n'
+                     '[[case]]\nname = "light only"\nloads = ["light"]\n'
+                     '[[case]]\nname = "heavy only"\nloads = ["heavy"]\n')
+    pattern = tmp_path / "diag.toml"
+    pattern.write_text(diagonal())
+    assert main(["check", str(model), str(pattern), "--fixed"]) == 0
+    out = capsys.readouterr().out
+    assert "load factor by the work equation = 8\n" in out
+    assert "(case 'heavy only')" in out and "light only" in out and "load factor 12" in out
+    line = [s for s in out.splitlines() if s.startswith("optimised mechanism")][0]
+    # The solve takes the cases too: at or above the heavy case's exact collapse load, 21.43 / 3
+    # (m' = 0, corners held: half of Fox's 42.851 for the clamped square, see test_review.py),
+    # where both loads at once would give 21.43 / 5.
+    assert float(line.rsplit("=", 1)[1]) >= 42.851 / 2 / 3 * (1 - 1e-6)

@@ -85,3 +85,43 @@ def test_safe_scale_is_proven_by_the_lower_bound():
     scaled = hingeline.model_from_toml(text.replace("sagging = 1.0\nhogging = 1.0",
                                                     f"sagging = {d.safe_scale!r}\nhogging = {d.safe_scale!r}"))
     assert hingeline.solve(scaled).lower_bound.load_factor == pytest.approx(1.0, rel=1e-5)
+
+
+CASES = SQUARE.replace('value = 48.0', '''name = "office"
+value = 48.0
+[[load]]
+type = "area"
+name = "storage"
+value = 72.0
+[[case]]
+name = "office use"
+loads = ["office"]
+[[case]]
+name = "storage use"
+loads = ["storage"]''')
+
+
+def test_load_cases_are_designed_case_by_case():
+    # Johansen (simply supported square, m' = m): q = 24 m / L^2. The storage case (72 kPa)
+    # needs m = 3, the office case (48 kPa) m = 2; applying both loads at once (120 kPa) would
+    # ask for m = 5, which no case requires.
+    d = required_scale(hingeline.model_from_toml(CASES))
+    assert d.case == "storage use"
+    assert d.scale == pytest.approx(3.0, rel=1e-6)
+    table = {name: scale for name, scale, _ in d.cases}
+    assert table["office use"] == pytest.approx(2.0, rel=1e-6)
+    assert table["storage use"] == pytest.approx(3.0, rel=1e-6)
+    # Proven enough: the largest of the cases' lower-bound scales, at or above the needed scale.
+    assert d.safe_scale == pytest.approx(max(safe for _, _, safe in d.cases))
+    assert d.safe_scale >= d.scale * (1 - 1e-6)
+
+
+def test_design_command_names_the_governing_case_and_both_scales(tmp_path, capsys):
+    from hingeline._cli.main import main
+
+    path = tmp_path / "cases.toml"
+    path.write_text(CASES, encoding="utf-8")
+    assert main(["design", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "case 'storage use' needs the most" in out
+    assert "office use" in out and "at the mechanism scale" in out and "at the proven scale" in out

@@ -6,7 +6,7 @@ import sys
 from pathlib import Path
 
 from ..check import HandCheck, check_pattern, read_pattern
-from ..model import read_model
+from ..model import model_for_case, read_model
 
 HELP = ("load factor of a hand-drawn yield-line pattern (rigid regions, see docs/hand-check.md) "
         "by the work equation, compared with the optimised mechanism")
@@ -24,13 +24,21 @@ def add_args(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
     pattern = read_pattern(args.pattern)
-    hc = check_pattern(model, pattern, optimise=not args.fixed)
+    # With load cases the pattern is checked under each; the lowest load factor governs.
+    cases = [(c.name, model_for_case(model, c)) for c in model.cases] or [(None, model)]
+    checks = [(name, check_pattern(m, pattern, optimise=not args.fixed)) for name, m in cases]
+    case, hc = min(checks, key=lambda c: c[1].load_factor)
     solved = None
     if not args.no_compare:
-        from ..solve import solve
+        from ..solve import solve_cases
 
-        solved = solve(model, resolution="coarse", lower_bound=False).load_factor  # only the mechanism is compared
-    print_check(hc, model.title, str(args.pattern), solved)
+        # Only the mechanism is compared, on the coarse mesh, over the same cases.
+        solved = solve_cases(model, resolution="coarse", lower_bound=False).load_factor
+    if case is not None:
+        print(f"load cases: the pattern is checked under each, the lowest governs (case '{case}')")
+        for name, c in checks:
+            print(f"  {name:24s} load factor {c.load_factor:.6g}")
+    print_check(hc, model.title + (f" (load case '{case}')" if case else ""), str(args.pattern), solved)
     return 0
 
 

@@ -39,11 +39,16 @@ def run(args: argparse.Namespace) -> int:
         print(f"  proven enough   scale {d.safe_scale:.4f} (lower-bound theorem: a moment field in equilibrium "
               f"inside the scaled capacities exists); the scale truly needed lies between "
               f"{d.scale:.4f} and {d.safe_scale:.4f}")
+    if d.case is not None:
+        print(f"  load cases      the slab must reach the target under each; case '{d.case}' needs the most")
+        for name, scale, safe in d.cases:
+            proven = "none" if safe is None else f"{safe:.4f}"
+            print(f"    {name:24s} scale {scale:.4f}, proven enough {proven}")
     cap = model.capacity
-    print(f"  sagging needed  {cap.sagging[0] * d.scale:.2f} / {cap.sagging[1] * d.scale:.2f} kNm/m "
-          f"(bar directions 1 / 2; present {cap.sagging[0]:.2f} / {cap.sagging[1]:.2f})")
-    print(f"  hogging needed  {cap.hogging[0] * d.scale:.2f} / {cap.hogging[1] * d.scale:.2f} kNm/m "
-          f"(present {cap.hogging[0]:.2f} / {cap.hogging[1]:.2f})")
+    scales = [("mechanism", d.scale)] + ([("proven", d.safe_scale)] if d.safe_scale is not None else [])
+    for what, pair in (("sagging", cap.sagging), ("hogging", cap.hogging)):
+        needed = "; ".join(f"{pair[0] * s:.2f} / {pair[1] * s:.2f} at the {label} scale" for label, s in scales)
+        print(f"  {what} needed  {needed} kNm/m (bar directions 1 / 2; present {pair[0]:.2f} / {pair[1]:.2f})")
     if d.proposals:
         which = "proven-enough" if d.safe_scale is not None else "mechanism's"
         print(f"  bar proposals for the {which} scale {d.proposal_scale:.4f}:")

@@ -15,6 +15,10 @@ The same solve gives a lower bound lambda_lower <= lambda_all (lower/program.py)
 lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
 (moments and loads both scale with s). The scale truly needed lies in [s, s_safe].
 
+With load cases ([[case]]), the slab must reach the target under each of them: s and
+s_safe are computed case by case and the largest of each governs (the case of the
+largest s is named).
+
 With a bar schedule, each layer's spacing is then reduced (in 25 mm steps, the
 diameter kept, or the next diameter up if needed) until its EN 1992-1-1 moment
 reaches s_safe times its present value (s when there is no lower bound): proposals
@@ -25,7 +29,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from ..errors import ModelError
-from ..model import Model, eurocode
+from ..model import Model, eurocode, model_for_case
 from ..result import Result
 from ..solve import solve
 
@@ -47,13 +51,18 @@ class LayerProposal:
 class DesignResult:
     """scale: factor on all capacities for the load factor to equal `target` (the true scale
     needed is at or above it); safe_scale: a factor proven enough by the lower-bound theorem
-    (None without a lower bound); result: the solve under target x factored + held loads."""
+    (None without a lower bound); result: the solve under target x factored + held loads
+    (of the governing case). With load cases: case, the governing case (largest scale), and
+    cases, (name, scale, safe_scale) of every case; safe_scale is then the largest of the
+    cases' (None if any case has none)."""
 
     scale: float
     target: float
     result: Result
     proposals: tuple[LayerProposal, ...] = ()
     safe_scale: float | None = None
+    case: str | None = None
+    cases: tuple[tuple[str, float, float | None], ...] = ()
 
     @property
     def proposal_scale(self) -> float:
@@ -62,20 +71,38 @@ class DesignResult:
 
 
 def required_scale(model: Model, target: float = 1.0, resolution: str | None = None) -> DesignResult:
-    """Capacity scale factor for load factor `target` (> 0); see the module docstring."""
+    """Capacity scale factor for load factor `target` (> 0), case by case when the model has
+    load cases; see the module docstring."""
     if target <= 0:
         raise ValueError("target load factor must be > 0")
+    if not model.cases:
+        return _required_scale(model, model, target, resolution)
+    each = [(case.name, _required_scale(model_for_case(model, case), model, target, resolution))
+            for case in model.cases]
+    name, governing = max(each, key=lambda nd: nd[1].scale)
+    safes = [d.safe_scale for _, d in each]
+    safe = None if any(v is None for v in safes) else max(safes)
+    return replace(_with_proposals(model, governing.scale, safe, governing),
+                   case=name, cases=tuple((n, d.scale, d.safe_scale) for n, d in each))
+
+
+def _required_scale(model: Model, whole: Model, target: float, resolution: str | None) -> DesignResult:
+    """required_scale of `model` (no cases); bar proposals from `whole`'s bar schedule."""
     loads = tuple(replace(ld, value=ld.value * target if ld.factored else ld.value, factored=True)
                   for ld in model.loads)
     result = solve(replace(model, loads=loads), resolution=resolution)
     scale = 1.0 / result.load_factor
     lower = result.lower_bound.load_factor if result.lower_bound is not None else None
     safe = None if not lower else 1.0 / lower
+    return _with_proposals(whole, scale, safe, DesignResult(scale, target, result))
+
+
+def _with_proposals(model: Model, scale: float, safe: float | None, d: DesignResult) -> DesignResult:
     proposals = ()
     if model.capacity.bars:
         proposals = tuple(_propose(model, bar, lc.moment * (scale if safe is None else safe))
                           for bar, lc in zip(model.capacity.bars, model.capacity.layers))
-    return DesignResult(scale, target, result, proposals, safe)
+    return replace(d, scale=scale, safe_scale=safe, proposals=proposals)
 
 
 def _propose(model: Model, bar: eurocode.BarLayer, required: float) -> LayerProposal:
