@@ -270,3 +270,15 @@ def test_report_renders_in_headless_chromium(coarse_report, tmp_path):
     # the page's colours render (CSS applied): dark red of the caution box, dark blue of the headings
     for colour in ([0x8C, 0x1C, 0x13], [0x1B, 0x3F, 0x8B]):
         assert (np.abs(rgb.astype(int) - colour).sum(axis=2) < 40).sum() > 200
+
+
+def test_the_record_reports_in_full_the_solve_that_governs(monkeypatch):
+    """Every solve is an upper bound (upper-bound theorem), so the lowest load factor governs:
+    the record's headline, work equation and drawings come from that solve, whichever
+    resolution was asked for."""
+    from hingeline.outputs import record
+
+    model = model_from_toml(L_SLAB, source="L-slab")
+    results, primary = record.solve_resolutions(model, resolutions=("normal",), primary="coarse")
+    assert set(results) == {"coarse", "normal"}
+    assert results[primary].load_factor == min(r.load_factor for r in results.values())

@@ -20,8 +20,8 @@ def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("-o", "--outdir", type=Path, required=True, metavar="OUTDIR",
                         help="folder for report.html (created if missing)")
     parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
-                        help="resolution reported in full (default: the model's); coarse and normal "
-                             "are always solved too, for the convergence table")
+                        help="resolution solved in addition to coarse and normal (default: the model's); "
+                             "the record reports in full the solve with the lowest load factor")
 
 
 def run(args: argparse.Namespace) -> int:

@@ -200,11 +200,13 @@ def build_report(model: Model, results_by_resolution: Mapping[str, Result], prim
 
 def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
                       primary: str | None = None) -> tuple[dict[str, Result], str]:
-    """Solve `model` at each resolution; return (results by label, primary label).
+    """Solve `model` at each resolution; return (results by label, label reported in full).
 
-    resolutions: default REPORT_RESOLUTIONS plus the primary. primary: resolution
-    reported in full (default: the model's; when the model sets analysis.mesh_size
-    and no primary is given, that mesh size is solved too and is primary).
+    resolutions: default REPORT_RESOLUTIONS plus the primary. primary: a resolution solved
+    in addition (default: the model's; when the model sets analysis.mesh_size and no
+    primary is given, that mesh size). The record reports in full the solve with the lowest
+    load factor, which governs (every solve is an upper bound), so that its headline, work
+    equation, drawings and lower bound come from that one solve.
     """
     from ..solve import solve_cases
 
@@ -225,7 +227,8 @@ def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
         res, size = plan[label]
         log.info("report: solving at %s", label)
         results[label] = solve_cases(model, resolution=res, mesh_size=size)
-    return results, primary
+    governing = min(ordered(results), key=lambda k: results[k].load_factor)
+    return results, governing
 
 
 def write_report(model: Model, outdir: str | os.PathLike, resolutions: Sequence[str] | None = None,
