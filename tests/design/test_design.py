@@ -3,6 +3,7 @@ import pytest
 
 import hingeline
 from hingeline.design import required_scale
+from hingeline.model.eurocode import min_area
 
 SQUARE = """
 [slab]
@@ -71,6 +72,11 @@ def test_bar_proposal_reaches_the_required_moment():
         assert p.required == pytest.approx(d.safe_scale * lc.moment)
         assert p.moment >= p.required
         assert p.spacing <= 300 and p.spacing % 25 == 0
+        # EN 1992-1-1 9.2.1.1(1) minimum area (recalled from memory): 0.26 f_ctm / f_yk b d, >= 0.0013 b d.
+        thickness = m.slab.thickness * 1000
+        area = 3.141592653589793 * p.diameter**2 / 4 * 1000 / p.spacing
+        d_eff = thickness - {"bottom_1": 25, "bottom_2": 35, "top_1": 25, "top_2": 35}[p.name] - p.diameter / 2
+        assert area >= min_area(d_eff, m.capacity.materials)
 
 
 def test_safe_scale_is_proven_by_the_lower_bound():

@@ -83,3 +83,26 @@ def test_over_reinforced_layer_is_refused():
         .replace("bottom_1 = {diameter = 12, spacing = 150", "bottom_1 = {diameter = 25, spacing = 60")
     with pytest.raises(hingeline.ModelError, match="over-reinforced"):
         hingeline.model_from_toml(text)
+
+
+def test_detailing_limits_of_en_1992_1_1():
+    from hingeline.model.eurocode import fctm, max_spacing, min_area
+
+    # Table 3.1 tabulates f_ctm = 2.9 MPa for C30/37 and 4.4 MPa for C60/75 (values recalled from memory).
+    assert fctm(30) == pytest.approx(2.9, abs=0.01)
+    assert fctm(60) == pytest.approx(4.4, abs=0.05)
+    # 9.3.1.1(3): principal bars at most 3h and 400 mm (recommended values, recalled from memory).
+    assert max_spacing(120) == 360 and max_spacing(200) == 400
+    # 9.2.1.1(1): A_s,min = 0.26 f_ctm / f_yk b d, not less than 0.0013 b d.
+    c30 = Materials("C30/37", "B500B")
+    assert min_area(170, c30) == pytest.approx(0.26 * fctm(30) / 500 * 1000 * 170)
+    c12 = Materials("C12/15", "B500B")   # 0.26 * 1.57 / 500 = 0.00082 < 0.0013
+    assert min_area(170, c12) == pytest.approx(0.0013 * 1000 * 170)
+
+
+def test_wide_or_light_bar_layers_are_warned_by_clause():
+    wide = hingeline.model_from_toml(MODEL.format(top="top_1 = {diameter = 12, spacing = 450, cover = 25}"))
+    assert any("top_1" in w and "9.3.1.1(3)" in w for w in wide.capacity.warnings)
+    assert any("top_1" in w and "9.2.1.1(1)" in w for w in wide.capacity.warnings)   # 251 mm2/m < 0.0015 b d
+    plain = hingeline.model_from_toml(MODEL.format(top=""))
+    assert not [w for w in plain.capacity.warnings if "9.3.1.1" in w or "9.2.1.1" in w]

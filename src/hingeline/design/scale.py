@@ -106,17 +106,20 @@ def _with_proposals(model: Model, scale: float, safe: float | None, d: DesignRes
 
 
 def _propose(model: Model, bar: eurocode.BarLayer, required: float) -> LayerProposal:
-    """Widest spacing (25 mm steps, 300 mm at most) of the same or the next larger diameter
-    whose design moment reaches `required` kNm/m; NaN fields when none does."""
+    """Widest spacing (25 mm steps, at most 300 mm and the EN 1992-1-1 9.3.1.1(3) limit) of the same or
+    the next larger diameter whose design moment reaches `required` kNm/m and whose area
+    reaches the minimum of 9.2.1.1(1); NaN fields when none does."""
     thickness = model.slab.thickness * 1000.0
+    mat = model.capacity.materials
+    # 300 mm also bounds the spacing: a usual limit for crack control (common practice, no source).
+    widest = int(min(eurocode.max_spacing(thickness), 300.0) // 25) * 25
     for dia in [bar.diameter] + [d for d in DIAMETERS if d > bar.diameter]:
-        for spacing in range(300, 49, -25):
+        for spacing in range(widest, 49, -25):
             try:
-                lc = eurocode.layer_capacity(replace(bar, diameter=dia, spacing=float(spacing)), thickness,
-                                             model.capacity.materials)
+                lc = eurocode.layer_capacity(replace(bar, diameter=dia, spacing=float(spacing)), thickness, mat)
             except ModelError:
                 break  # does not fit or over-reinforced: denser bars of this size will not help
-            if lc.moment >= required:
+            if lc.moment >= required and lc.area >= eurocode.min_area(lc.d, mat):
                 return LayerProposal(bar.name, required, dia, float(spacing), lc.moment)
     nan = float("nan")
     return LayerProposal(bar.name, required, nan, nan, nan)

@@ -83,7 +83,9 @@ def _parse_bars(t: Any, thickness: float | None, bar_angle: float) -> Capacity:
 
     return Capacity(sagging=(moment("bottom_1"), moment("bottom_2")),
                     hogging=(moment("top_1"), moment("top_2")), bar_angle=bar_angle,
-                    layers=tuple(layers.values()), warnings=tuple(eurocode.schedule_warnings(layers, mat)),
+                    layers=tuple(layers.values()),
+                    warnings=(*eurocode.schedule_warnings(layers, mat),
+                              *eurocode.detailing_warnings(bars, layers, thickness * 1000.0, mat)),
                     bars=tuple(bars), materials=mat)
 
 

@@ -17,6 +17,13 @@ analysis without a check of rotation capacity needs x_u/d <= 0.25 for classes up
 to C50/60 (5.6.2(2)); a layer above that gets a warning, as does a ratio of
 support (top) to span (bottom) capacity outside 0.5 to 2.0 (common practice).
 
+Detailing limits for slabs, recommended values: bar spacing at most 3h and 400 mm for
+principal bars (9.3.1.1(3); both bar directions of a two-way slab are taken as principal,
+and the tighter 2h and 250 mm near concentrated loads and maximum moments is left to the
+engineer), and at least A_s,min = max(0.26 f_ctm / f_yk, 0.0013) b d (9.2.1.1(1), by
+9.3.1.1(1)), with f_ctm = 0.30 f_ck^(2/3) up to C50/60 and 2.12 ln(1 + f_cm / 10),
+f_cm = f_ck + 8, above (Table 3.1). Clause numbers and values recalled from memory.
+
 Units: mm and MPa inside, kNm/m out.
 """
 from __future__ import annotations
@@ -107,6 +114,39 @@ def layer_capacity(layer: BarLayer, thickness_mm: float, mat: Materials) -> Laye
                          "would not yield); use fewer or smaller bars or a stronger concrete")
     moment = area * fyd * (d - lam * x / 2) / 1e6  # N mm per mm -> kNm/m
     return LayerCapacity(layer.name, area, d, x, x / d, moment)
+
+
+def max_spacing(thickness_mm: float) -> float:
+    """Largest spacing of principal bars in a slab, mm (EN 1992-1-1 9.3.1.1(3): 3h, 400 mm)."""
+    return min(3.0 * thickness_mm, 400.0)
+
+
+def fctm(fck: float) -> float:
+    """Mean axial tensile strength of concrete, MPa (EN 1992-1-1 Table 3.1)."""
+    if fck <= 50:
+        return 0.30 * fck ** (2.0 / 3.0)
+    return 2.12 * math.log(1.0 + (fck + 8.0) / 10.0)
+
+
+def min_area(d_mm: float, mat: Materials) -> float:
+    """Minimum tension reinforcement per metre, mm^2/m (EN 1992-1-1 9.2.1.1(1))."""
+    return max(0.26 * fctm(mat.fck) / mat.fyk, 0.0013) * 1000.0 * d_mm
+
+
+def detailing_warnings(bars, layers: dict[str, LayerCapacity], thickness_mm: float, mat: Materials) -> list[str]:
+    """Bar layers wider apart than max_spacing or lighter than min_area."""
+    out = []
+    limit = max_spacing(thickness_mm)
+    for bar in bars:
+        lc = layers[bar.name]
+        if bar.spacing > limit:
+            out.append(f"capacity.bars.{bar.name}: spacing {bar.spacing:g} mm exceeds {limit:g} mm "
+                       "(EN 1992-1-1 9.3.1.1(3): 3h and 400 mm)")
+        need = min_area(lc.d, mat)
+        if lc.area < need:
+            out.append(f"capacity.bars.{bar.name}: {lc.area:.0f} mm2/m is below the minimum {need:.0f} mm2/m "
+                       "(EN 1992-1-1 9.2.1.1(1))")
+    return out
 
 
 def schedule_warnings(layers: dict[str, LayerCapacity], mat: Materials) -> list[str]:
