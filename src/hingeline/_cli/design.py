@@ -15,6 +15,9 @@ HELP = ("find the factor by which all moment capacities must be scaled for the l
 def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("model", type=Path, metavar="MODEL.toml", help="model file (see docs/model-format.md)")
     parser.add_argument("--target", type=positive_number("--target"), default=1.0, help="target load factor (default 1.0)")
+    parser.add_argument("--scale-bars", choices=("all", "bottom", "top"), default="all",
+                        help="capacities the scale applies to: all (default), the bottom bars (sagging) only "
+                             "or the top bars (hogging) only; zones alike")
     parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
                         help="mesh resolution; overrides [analysis] resolution of the model file")
 
@@ -23,7 +26,7 @@ def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
     from ..design import required_scale  # imported late: reading the model needs no solver
 
-    d = required_scale(model, target=args.target, resolution=args.resolution)
+    d = required_scale(model, target=args.target, resolution=args.resolution, scaled=args.scale_bars)
     if d.scale > 1:
         verdict = f"NOT adequate: short by {(d.scale - 1) * 100:.1f} % at least"
     elif d.safe_scale is not None and d.safe_scale <= 1:
@@ -46,9 +49,18 @@ def run(args: argparse.Namespace) -> int:
             print(f"    {name:24s} scale {scale:.4f}, proven enough {proven}")
     cap = model.capacity
     scales = [("mechanism", d.scale)] + ([("proven", d.safe_scale)] if d.safe_scale is not None else [])
-    for what, pair in (("sagging", cap.sagging), ("hogging", cap.hogging)):
-        needed = "; ".join(f"{pair[0] * s:.2f} / {pair[1] * s:.2f} at the {label} scale" for label, s in scales)
-        print(f"  {what} needed  {needed} kNm/m (bar directions 1 / 2; present {pair[0]:.2f} / {pair[1]:.2f})")
+    applies = {"sagging": d.scaled in ("all", "bottom"), "hogging": d.scaled in ("all", "top")}
+    if d.scaled != "all":
+        print(f"  scaled          the {d.scaled} bars only ({'sagging' if d.scaled == 'bottom' else 'hogging'} "
+              "capacities, zones alike); the others as given")
+    for who, sag, hog in [("", cap.sagging, cap.hogging)] + [(f" zone '{z.name}'", z.sagging, z.hogging)
+                                                              for z in model.zones]:
+        for what, pair in (("sagging", sag), ("hogging", hog)):
+            if not applies[what]:
+                continue
+            needed = "; ".join(f"{pair[0] * v:.2f} / {pair[1] * v:.2f} at the {label} scale" for label, v in scales)
+            print(f"  {what} needed{who}  {needed} kNm/m (bar directions 1 / 2; present {pair[0]:.2f} / "
+                  f"{pair[1]:.2f})")
     if d.proposals:
         which = "proven-enough" if d.safe_scale is not None else "mechanism's"
         print(f"  bar proposals for the {which} scale {d.proposal_scale:.4f}:")

@@ -15,6 +15,15 @@ The same solve gives a lower bound lambda_lower <= lambda_all (lower/program.py)
 lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
 (moments and loads both scale with s). The scale truly needed lies in [s, s_safe].
 
+Scaling the bottom bars alone (or the top bars alone) is not linear: the load factor
+lambda(s) of the fixed mesh is then the minimum over mechanisms of s D_m + E_m (D the
+work of the scaled capacities, E that of the others, at unit load work), concave and
+nondecreasing in s. Newton's step on the governing mechanism's line, s' = s (1 - E)/D,
+never overshoots the root (the line lies above lambda) and reaches it in a few solves
+on the same mesh. The proven scale is then sought upwards from there: a scale whose
+lower-bound solve reaches the target is proven; a few steps along the mechanism's slope
+are tried, and none is reported if none is proven.
+
 With load cases ([[case]]), the slab must reach the target under each of them: s and
 s_safe are computed case by case and the largest of each governs (the case of the
 largest s is named).
@@ -32,6 +41,10 @@ from ..errors import ModelError
 from ..model import Model, eurocode, model_for_case
 from ..result import Result
 from ..solve import solve
+from ..upper.certificate import internal_work
+
+#: What design may scale: every capacity, the bottom bars (sagging) or the top bars (hogging).
+SCALED = ("all", "bottom", "top")
 
 DIAMETERS = (8.0, 10.0, 12.0, 16.0, 20.0, 25.0, 32.0)  # mm, common stock sizes (common practice)
 
@@ -54,7 +67,7 @@ class DesignResult:
     (None without a lower bound); result: the solve under target x factored + held loads
     (of the governing case). With load cases: case, the governing case (largest scale), and
     cases, (name, scale, safe_scale) of every case; safe_scale is then the largest of the
-    cases' (None if any case has none)."""
+    cases' (None if any case has none); scaled: the capacities the scales apply to (SCALED)."""
 
     scale: float
     target: float
@@ -63,6 +76,7 @@ class DesignResult:
     safe_scale: float | None = None
     case: str | None = None
     cases: tuple[tuple[str, float, float | None], ...] = ()
+    scaled: str = "all"
 
     @property
     def proposal_scale(self) -> float:
@@ -70,39 +84,96 @@ class DesignResult:
         return self.scale if self.safe_scale is None else self.safe_scale
 
 
-def required_scale(model: Model, target: float = 1.0, resolution: str | None = None) -> DesignResult:
+def required_scale(model: Model, target: float = 1.0, resolution: str | None = None,
+                   scaled: str = "all") -> DesignResult:
     """Capacity scale factor for load factor `target` (> 0), case by case when the model has
-    load cases; see the module docstring."""
+    load cases; `scaled`: one of SCALED, the capacities the factor applies to (those of the
+    zones included). See the module docstring."""
     if target <= 0:
         raise ValueError("target load factor must be > 0")
+    if scaled not in SCALED:
+        raise ValueError(f"scaled must be one of {SCALED}, not {scaled!r}")
     if not model.cases:
-        return _required_scale(model, model, target, resolution)
-    each = [(case.name, _required_scale(model_for_case(model, case), model, target, resolution))
+        return _required_scale(model, model, target, resolution, scaled)
+    each = [(case.name, _required_scale(model_for_case(model, case), model, target, resolution, scaled))
             for case in model.cases]
     name, governing = max(each, key=lambda nd: nd[1].scale)
     safes = [d.safe_scale for _, d in each]
     safe = None if any(v is None for v in safes) else max(safes)
-    return replace(_with_proposals(model, governing.scale, safe, governing),
+    return replace(_with_proposals(model, governing.scale, safe, governing, scaled),
                    case=name, cases=tuple((n, d.scale, d.safe_scale) for n, d in each))
 
 
-def _required_scale(model: Model, whole: Model, target: float, resolution: str | None) -> DesignResult:
+def with_scale(model: Model, s: float, scaled: str) -> Model:
+    """`model` with its `scaled` capacities (slab and zones) multiplied by s."""
+    sag = s if scaled in ("all", "bottom") else 1.0
+    hog = s if scaled in ("all", "top") else 1.0
+
+    def pair(p, f):
+        return (p[0] * f, p[1] * f)
+
+    cap = replace(model.capacity, sagging=pair(model.capacity.sagging, sag), hogging=pair(model.capacity.hogging, hog))
+    zones = tuple(replace(z, sagging=pair(z.sagging, sag), hogging=pair(z.hogging, hog)) for z in model.zones)
+    return replace(model, capacity=cap, zones=zones)
+
+
+def _required_scale(model: Model, whole: Model, target: float, resolution: str | None,
+                    scaled: str) -> DesignResult:
     """required_scale of `model` (no cases); bar proposals from `whole`'s bar schedule."""
     loads = tuple(replace(ld, value=ld.value * target if ld.factored else ld.value, factored=True)
                   for ld in model.loads)
-    result = solve(replace(model, loads=loads), resolution=resolution)
-    scale = 1.0 / result.load_factor
-    lower = result.lower_bound.load_factor if result.lower_bound is not None else None
-    safe = None if not lower else 1.0 / lower
-    return _with_proposals(whole, scale, safe, DesignResult(scale, target, result))
+    at_target = replace(model, loads=loads)
+    if scaled == "all":
+        result = solve(at_target, resolution=resolution)
+        scale = 1.0 / result.load_factor
+        lower = result.lower_bound.load_factor if result.lower_bound is not None else None
+        safe = None if not lower else 1.0 / lower
+    else:
+        scale, result, safe = _partial_scale(at_target, resolution, scaled)
+    return _with_proposals(whole, scale, safe, DesignResult(scale, target, result), scaled)
 
 
-def _with_proposals(model: Model, scale: float, safe: float | None, d: DesignResult) -> DesignResult:
+def _partial_scale(model: Model, resolution: str | None, scaled: str, rounds: int = 12, tries: int = 4):
+    """(scale, result at that scale, proven scale or None) for `model` whose loads all count
+    at unit load factor, scaling only the `scaled` capacities (module docstring)."""
+    fixed = with_scale(model, 0.0, "top" if scaled == "bottom" else "bottom")   # the scaled part alone
+    s = 1.0
+    for _ in range(rounds):
+        result = solve(with_scale(model, s, scaled), resolution=resolution, lower_bound=False)
+        part = internal_work(with_scale(fixed, s, scaled), result.mechanism)   # at unit load work
+        rest = result.work.internal - part
+        if abs(result.load_factor - 1.0) <= 1e-9:
+            break
+        if part <= 1e-12 * result.work.internal:
+            raise ModelError(f"scaling the {scaled} bars alone cannot reach the target: the governing mechanism "
+                             f"has no {'sagging' if scaled == 'bottom' else 'hogging'} lines; scale all capacities")
+        s_next = max(s * (1.0 - rest) / part, 1e-9)
+        if abs(s_next - s) <= 1e-12 * s:
+            break
+        s = s_next
+    slope = part / s                      # d lambda / d s of the governing mechanism
+    safe, trial = None, s
+    for _ in range(tries):
+        lower = solve(with_scale(model, trial, scaled), resolution=resolution).lower_bound
+        value = None if lower is None else lower.load_factor
+        if value is not None and value >= 1.0:
+            safe = trial
+            break
+        if value is None or slope <= 0:
+            break
+        trial += (1.0 - value) / slope * 1.001
+    return s, result, safe
+
+
+def _with_proposals(model: Model, scale: float, safe: float | None, d: DesignResult,
+                    scaled: str = "all") -> DesignResult:
     proposals = ()
     if model.capacity.bars:
-        proposals = tuple(_propose(model, bar, lc.moment * (scale if safe is None else safe))
-                          for bar, lc in zip(model.capacity.bars, model.capacity.layers))
-    return replace(d, scale=scale, safe_scale=safe, proposals=proposals)
+        factor = scale if safe is None else safe
+        proposals = tuple(_propose(model, bar, lc.moment * factor)
+                          for bar, lc in zip(model.capacity.bars, model.capacity.layers)
+                          if scaled == "all" or bar.name.startswith(scaled))
+    return replace(d, scale=scale, safe_scale=safe, proposals=proposals, scaled=scaled)
 
 
 def _propose(model: Model, bar: eurocode.BarLayer, required: float) -> LayerProposal:
