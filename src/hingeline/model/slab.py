@@ -20,6 +20,9 @@ from .values import Invalid, check_keys, edge_label, fmt, frozen, number, points
 
 SLAB_KEYS = ("outline", "edges", "thickness", "opening")
 OPENING_KEYS = ("polygon",)
+EDGE_KEYS = ("type", "fixity")            # an edge given as a table
+EDGE_RUNS_KEYS = ("runs",)                # an edge split into runs
+RUN_KEYS = ("type", "fixity", "to")       # one run of an edge
 
 
 def parse_slab(t: dict) -> tuple[Slab, Geometry]:
@@ -127,7 +130,7 @@ def _edge_kind_and_fixity(t: Any, where: str) -> tuple[str, float]:
         return t, 1.0
     if not isinstance(t, dict):
         raise Invalid(f"{where} must be a word ({words(EDGE_KINDS)}) or a table, got {show(t)}")
-    check_keys(t, ("type", "fixity"), where)
+    check_keys(t, EDGE_KEYS, where)
     kind, fixity = _edge_kind_and_fixity(t.get("type"), f"{where}.type")[0], 1.0
     if "fixity" in t:
         fixity = number(t["fixity"], f"{where}.fixity", "")
@@ -152,7 +155,7 @@ def _expand_edges(outline: np.ndarray, entries: list, tol: float):
             kinds.append(kind)
             fix.append(f)
             continue
-        check_keys(entry, ("runs",), where)
+        check_keys(entry, EDGE_RUNS_KEYS, where)
         runs = entry["runs"]
         if not isinstance(runs, list) or len(runs) < 2:
             raise Invalid(f"{where}.runs must list at least two runs, e.g. [{{type = \"free\", to = 2.0}}, "
@@ -163,7 +166,7 @@ def _expand_edges(outline: np.ndarray, entries: list, tol: float):
             rwhere = f"{where}.runs[{j + 1}]"
             if not isinstance(run, dict):
                 raise Invalid(f"{rwhere} must be a table {{type = ..., to = <m>}}")
-            check_keys(run, ("type", "fixity", "to"), rwhere)
+            check_keys(run, RUN_KEYS, rwhere)
             kind, f = _edge_kind_and_fixity({k2: v for k2, v in run.items() if k2 != "to"}, rwhere)
             kinds.append(kind)
             fix.append(f)
