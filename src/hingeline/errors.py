@@ -17,5 +17,12 @@ class UnstableSlabError(HingelineError):
     """The slab can collapse without resisting (zero or negative load factor)."""
 
 
+class HeldLoadCollapse(UnstableSlabError):
+    """The slab collapses under its held loads alone. `result`, when set by solve, is the
+    mechanism of the held loads alone (load factor on them below 1), for drawing and storing."""
+
+    result = None
+
+
 class SolverError(HingelineError):
     """The linear program could not be solved (a fault of hingeline or HiGHS, not of the model)."""

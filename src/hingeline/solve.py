@@ -13,7 +13,7 @@ import numpy as np
 import shapely
 
 from . import rescale, review
-from .errors import ModelError, SolverError, UnstableSlabError
+from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import mesh_domain, mesh_size_for
 from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
@@ -57,6 +57,11 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     hint = size_warning(model)
     try:
         raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s)
+    except HeldLoadCollapse as err:
+        err.result = _held_alone(model, resolution, mesh_size)
+        if hint is not None:
+            err.args = (f"{err}; {hint}",)
+        raise
     except UnstableSlabError as err:
         if hint is None:
             raise
@@ -92,6 +97,22 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     log.info("load factor %.6g (certificate %.6g), %.2f s", lf, check.load_factor, stats.seconds)
     return Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
                   check, tuple(warnings), lower_bound=lb)
+
+
+def _held_alone(model: Model, resolution: str | None, mesh_size: float | None) -> Result | None:
+    """The mechanism of the held loads alone, as if they were the scaled ones: its load
+    factor (below 1) is the fraction of the held loads at which the slab collapses. None
+    when it cannot be found."""
+    held = tuple(replace(ld, factored=True) for ld in model.loads if not ld.factored)
+    if not held:
+        return None
+    try:
+        r = solve(replace(model, loads=held, cases=()), resolution, mesh_size, lower_bound=False)
+    except (UnstableSlabError, SolverError):
+        return None
+    note = (f"this is the mechanism of the held loads alone: the slab collapses at {r.load_factor:.4g} times "
+            "them, before any scaled load is applied")
+    return replace(r, warnings=(note, *r.warnings))
 
 
 def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales):
@@ -131,7 +152,7 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     lf_scale = m_ref / w_total
     if lf <= 1e-7 * lf_scale:
         if lf < -1e-7 * lf_scale:
-            raise UnstableSlabError(
+            raise HeldLoadCollapse(
                 f"the slab cannot carry its held (unfactored) loads alone: the best mechanism has load "
                 f"factor {lf * s.load_factor:.4g} < 0; reduce the held loads or add strength or supports")
         raise UnstableSlabError(

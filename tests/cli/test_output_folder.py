@@ -92,3 +92,22 @@ def test_stdout_closed_by_its_reader_ends_quietly(tmp_path, monkeypatch, fake_so
         stdout.close()
     assert code == EXIT_BROKEN_PIPE
     assert (tmp_path / "out" / "result.json").is_file()
+
+
+def test_collapse_under_held_loads_alone_is_drawn_and_stored(tmp_path, capsys):
+    """Johansen: the simply supported square with m' = m carries 24 m / L^2; 30 kPa held on the
+    unit square with m = 1 collapses at 24 / 30 = 0.8 times it, before any scaled load."""
+    import json
+
+    text = GOOD_MODEL.replace("[[load]]", '[[load]]\ntype = "area"\nvalue = 30.0\nfactored = false\n[[load]]', 1)
+    text = text.replace("[[0.0, 0.0], [5.0, 0.0], [5.0, 4.0], [0.0, 4.0]]", "[[0, 0], [1, 0], [1, 1], [0, 1]]")
+    text = text.replace("sagging = 20.0\nhogging = 20.0", "sagging = 1.0\nhogging = 1.0")
+    model = write_model(tmp_path, text)
+    outdir = tmp_path / "out"
+    assert main(["solve", str(model), "-o", str(outdir), "--no-lower-bound", "--resolution", "coarse"]) == 2
+    captured = capsys.readouterr()
+    assert "held" in captured.err and "mechanism is written" in captured.out
+    data = json.loads((outdir / "result.json").read_text(encoding="utf-8"))
+    assert data["load_factor"] == pytest.approx(0.8, rel=0.01)
+    assert (outdir / "pattern.png").is_file()
+    assert any("held loads alone" in w for w in data["warnings"])

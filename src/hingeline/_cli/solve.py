@@ -4,6 +4,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from ..errors import HeldLoadCollapse
 from ..model import RESOLUTIONS, read_model
 from ..result import Result
 from . import report
@@ -59,8 +60,16 @@ def run(args: argparse.Namespace) -> int:
     report.check_outdir(args.outdir)
     from ..solve import solve_cases  # imported late: reading the model needs no solver
 
-    result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size,
-                         lower_bound=not args.no_lower_bound)
+    try:
+        result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size,
+                             lower_bound=not args.no_lower_bound)
+    except HeldLoadCollapse as err:
+        # An engineer assessing an existing slab needs to see how it fails: draw and store it.
+        if err.result is not None:
+            paths = write_files(err.result, args.outdir)
+            print(f"the slab collapses at {err.result.load_factor:.4g} times its held loads alone; that "
+                  f"mechanism is written to: {', '.join(str(p) for p in paths)}")
+        raise
     paths = write_files(result, args.outdir)
     report.print_summary(result, paths)
     return 0

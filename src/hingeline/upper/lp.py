@@ -28,7 +28,7 @@ from dataclasses import dataclass
 import highspy
 import numpy as np
 
-from ..errors import SolverError, UnstableSlabError
+from ..errors import HeldLoadCollapse, SolverError, UnstableSlabError
 
 log = logging.getLogger(__name__)
 
@@ -123,7 +123,7 @@ def _run(h):
     h.run()
     status = h.getModelStatus()
     if status == highspy.HighsModelStatus.kUnbounded:
-        raise UnstableSlabError(
+        raise HeldLoadCollapse(
             "the slab collapses under its held (unfactored) loads alone: there is a mechanism whose "
             "held-load work exceeds its internal work; reduce the held loads or add strength/supports")
     if status == highspy.HighsModelStatus.kInfeasible:
