@@ -38,7 +38,7 @@ def random_model(seed, hogging=None):
         "capacity": {"sagging": [float(rng.uniform(5, 20)), float(rng.uniform(5, 20))],
                      "hogging": float(rng.uniform(0, 20)), "bar_angle": float(rng.uniform(0, 90))},
         "load": [{"type": "area", "value": 5.0},
-                 {"type": "area", "value": 0.5, "factored": False}],
+                 {"type": "area", "value": 0.5, "scaled": False}],
         "analysis": {"resolution": "coarse"},
     }
     if not openings:

@@ -153,7 +153,7 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     if lf <= 1e-7 * lf_scale:
         if lf < -1e-7 * lf_scale:
             raise HeldLoadCollapse(
-                f"the slab cannot carry its held (unfactored) loads alone: the best mechanism has load "
+                f"the slab cannot carry its held loads (scaled = false) alone: the best mechanism has load "
                 f"factor {lf * s.load_factor:.4g} < 0; reduce the held loads or add strength or supports")
         raise UnstableSlabError(
             "the slab can move or fold without resisting (load factor 0): a mechanism exists that "
@@ -212,7 +212,7 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
     if sol.load_factor is None:
         reason = f"the lower-bound solver stopped with status '{sol.status}'"
         if "Infeasible" in sol.status:
-            reason = ("no moment field on this mesh carries the held (unfactored) loads within the capacities, "
+            reason = ("no moment field on this mesh carries the held loads (scaled = false) within the capacities, "
                       "so nothing can be proven even at load factor 0; a finer resolution may find one")
         warnings.append(f"no lower bound: {reason}")
         return LowerBound(None, None, None, None, sol.status, seconds, reason)

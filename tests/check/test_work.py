@@ -85,7 +85,7 @@ value = 1.0
 [[load]]
 type = "area"
 value = 1.0
-factored = false
+scaled = false
 """)
     hc = check_pattern(held, pattern_from_toml(diagonal()))
     assert hc.load_factor == pytest.approx(23.0, rel=1e-9)

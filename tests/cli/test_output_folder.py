@@ -99,7 +99,7 @@ def test_collapse_under_held_loads_alone_is_drawn_and_stored(tmp_path, capsys):
     unit square with m = 1 collapses at 24 / 30 = 0.8 times it, before any scaled load."""
     import json
 
-    text = GOOD_MODEL.replace("[[load]]", '[[load]]\ntype = "area"\nvalue = 30.0\nfactored = false\n[[load]]', 1)
+    text = GOOD_MODEL.replace("[[load]]", '[[load]]\ntype = "area"\nvalue = 30.0\nscaled = false\n[[load]]', 1)
     text = text.replace("[[0.0, 0.0], [5.0, 0.0], [5.0, 4.0], [0.0, 4.0]]", "[[0, 0], [1, 0], [1, 1], [0, 1]]")
     text = text.replace("sagging = 20.0\nhogging = 20.0", "sagging = 1.0\nhogging = 1.0")
     model = write_model(tmp_path, text)

@@ -33,7 +33,7 @@ def test_simply_supported_square_needs_q_L2_over_24():
 def test_scaled_capacities_reach_the_target_with_held_loads():
     # The defining property (module docstring): after scaling every capacity by s, the solver's
     # load factor equals the target, held loads included (same mesh, same candidates).
-    text = SQUARE.replace("value = 48.0", 'value = 30.0\n[[load]]\ntype = "area"\nvalue = 12.0\nfactored = false')
+    text = SQUARE.replace("value = 48.0", 'value = 30.0\n[[load]]\ntype = "area"\nvalue = 12.0\nscaled = false')
     m = hingeline.model_from_toml(text)
     d = required_scale(m, target=1.2)
     scaled = hingeline.model_from_toml(text.replace("sagging = 1.0\nhogging = 1.0",

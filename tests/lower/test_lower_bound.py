@@ -169,7 +169,7 @@ def test_virtual_work(load, work):
 def test_zero_hogging_capacity_and_held_load():
     # A slab without top bars (m' = 0) with a held load: a valid model; the bound must exist,
     # and conftest.py checks it lies below the load factor and re-checks.
-    m = model(SQUARE, "simple", hogging=0.0, extra='[[load]]\ntype = "area"\nvalue = 0.5\nfactored = false')
+    m = model(SQUARE, "simple", hogging=0.0, extra='[[load]]\ntype = "area"\nvalue = 0.5\nscaled = false')
     lb, r = lower(m, "coarse")
     assert 0.0 < lb <= r.load_factor
 
@@ -221,11 +221,11 @@ def test_held_load_beyond_the_provable_gives_a_reason_not_a_number():
     # Held load 23.995 kPa on the simply supported square (collapse at 24 m/L^2, exact): the
     # mechanism still has a small positive factor, but the coarse mesh's best static field stops
     # at 23.9896 (measured), so no field carries the held load: no lower bound, and a reason.
-    m = model(SQUARE, "simple", extra='[[load]]\ntype = "area"\nvalue = 23.995\nfactored = false')
+    m = model(SQUARE, "simple", extra='[[load]]\ntype = "area"\nvalue = 23.995\nscaled = false')
     r = hingeline.solve(m)
     assert 0 < r.load_factor < 0.01
     assert r.lower_bound.load_factor is None and r.gap is None
-    assert "held (unfactored) loads" in r.lower_bound.reason
+    assert "held loads (scaled = false)" in r.lower_bound.reason
     assert any(w.startswith("no lower bound") for w in r.warnings)
 
 
@@ -234,7 +234,7 @@ def test_check_notices_a_load_the_field_does_not_carry():
     # checked against the same slab with an extra 1 kN/m line load: the field's Kirchhoff shear
     # is continuous where the load needs a jump of 1 kN/m, so the re-check fails; the mesh does
     # carry the load on its sides (load_total 0: nothing of the model's loads is lost).
-    m = model(SQUARE, "simple", extra='[[load]]\ntype = "line"\nvalue = 1.0\nfactored = false\n'
+    m = model(SQUARE, "simple", extra='[[load]]\ntype = "line"\nvalue = 1.0\nscaled = false\n'
                                          'path = [[0.25, 0.5], [0.75, 0.5]]')
     d, nodes, tri = _mesh(m)
     check = check_field(m, d, MomentField(nodes, tri, exact_square_field(nodes, tri)), 24.0)

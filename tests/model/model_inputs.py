@@ -40,7 +40,7 @@ region = [[3, 0], [7.2, 0], [7.2, 2], [3, 2]]
 [[load]]
 type = "area"
 value = 1.5
-factored = false
+scaled = false
 name = "finishes"
 
 [analysis]

@@ -52,7 +52,7 @@ region = [[4.0, 0.5], [5.5, 0.5], [5.5, 2.5], [4.0, 2.5]]
 type = "area"
 name = "self weight"
 value = 6.0
-factored = false
+scaled = false
 
 [analysis]
 resolution = "coarse"

@@ -129,7 +129,7 @@ def test_result_to_dict_contents():
     assert d["model"]["edges"] == ["continuous", "simple", "simple", "simple"]
     assert len(d["model"]["openings"]) == 1
     assert d["model"]["loads"][0] == {"type": "area", "name": "imposed", "value": Q, "region": None,
-                                      "factored": True}
+                                      "factored": True, "gamma": 1.0}
 
 
 def test_non_finite_floats_become_null():

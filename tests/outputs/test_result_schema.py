@@ -40,13 +40,13 @@ value = 6.0
 type = "area"
 name = "self weight"
 value = 5.5
-factored = false
+scaled = false
 [[load]]
 type = "line"
 name = "partition"
 value = 3.0
 path = [[0.5, 2.5], [2.5, 2.5]]
-factored = false
+scaled = false
 [[load]]
 type = "point"
 name = "plant"

@@ -18,7 +18,7 @@ sagging = 12.0
 hogging = 12.0
 [[load]]
 type = "self_weight"
-factored = false
+scaled = false
 [[load]]
 type = "area"
 name = "imposed left"

@@ -103,7 +103,7 @@ def test_mm_warning():
 
 def test_mm_hint_when_the_slab_cannot_carry_its_held_loads():
     # Typed in mm, the slab's own weight is a million times too heavy: the error says why.
-    held = '[[load]]\ntype = "area"\nvalue = 5.0\nfactored = false'
+    held = '[[load]]\ntype = "area"\nvalue = 5.0\nscaled = false'
     with pytest.raises(UnstableSlabError, match="typed in mm"):
         hingeline.solve(rectangle(1.0, held=held, outline=[[0, 0], [6000, 0], [6000, 4500], [0, 4500]]),
                         lower_bound=False)

@@ -63,7 +63,7 @@ def test_cantilever_from_one_continuous_edge_is_stable():
 
 
 def test_held_load_alone_collapses():
-    held = '[[load]]\ntype = "area"\nvalue = 500.0\nfactored = false'
+    held = '[[load]]\ntype = "area"\nvalue = 500.0\nscaled = false'
     m = hingeline.model_from_toml(BASE.format(edges='"simple"', hogging=10.0, extra=held))
     with pytest.raises(hingeline.UnstableSlabError, match="held"):
         hingeline.solve(m)
@@ -80,7 +80,7 @@ def test_held_load_lowers_load_factor_by_its_share():
     # With a held load h and factored load q of the same shape, collapse needs q*lf + h = q*lf0:
     # lf = lf0 - h/q exactly (same mechanism; work equation is linear in the loads).
     m0 = hingeline.model_from_toml(BASE.format(edges='"simple"', hogging=10.0, extra=""))
-    held = '[[load]]\ntype = "area"\nvalue = 2.0\nfactored = false'
+    held = '[[load]]\ntype = "area"\nvalue = 2.0\nscaled = false'
     m1 = hingeline.model_from_toml(BASE.format(edges='"simple"', hogging=10.0, extra=held))
     r0, r1 = hingeline.solve(m0), hingeline.solve(m1)
     assert r1.load_factor == pytest.approx(r0.load_factor - 2.0 / 5.0, rel=1e-6)

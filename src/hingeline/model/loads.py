@@ -2,8 +2,10 @@
 
 A load is "area" (over the slab or a region of it), "line" (along a path), "point", or
 "self_weight" (unit weight x slab thickness, an area load over the whole slab). Every load has
-a name, unique in the model ("load 1", ... when not given), and is factored (scaled by the load
-factor, the default) or held. A [[case]] names the loads solved together.
+a name, unique in the model ("load 1", ... when not given), and is scaled (multiplied by the
+load factor: `scaled = true`, the default) or held at its value (`scaled = false`). An optional
+partial factor `gamma` (> 0, default 1) multiplies the value before anything else. A [[case]]
+names the loads solved together.
 
 Units: kPa (area loads), kN/m (line loads), kN (point loads), kN/m^3 (unit weight), m
 (regions, paths, points, thickness).
@@ -23,11 +25,14 @@ from .values import Invalid, check_keys, fmt, frozen, number, points, pt, show, 
 
 # Keys allowed in a [[load]] table, per load type.
 LOAD_KEYS = {
-    "area": ("type", "value", "region", "factored", "name"),
-    "line": ("type", "value", "path", "factored", "name"),
-    "point": ("type", "value", "at", "factored", "name"),
-    "self_weight": ("type", "unit_weight", "factored", "name"),
+    "area": ("type", "value", "region", "scaled", "gamma", "name"),
+    "line": ("type", "value", "path", "scaled", "gamma", "name"),
+    "point": ("type", "value", "at", "scaled", "gamma", "name"),
+    "self_weight": ("type", "unit_weight", "scaled", "gamma", "name"),
 }
+# The key that `scaled` replaced: "factored" reads, in design codes, as "multiplied by partial
+# factors", the opposite of what it meant here; a file that still uses it is refused by name.
+OLD_SCALED_KEY = "factored"
 CASE_KEYS = ("name", "loads")
 UNIT_WEIGHT = 25.0  # kN/m^3, reinforced concrete (common practice, no source)
 
@@ -57,6 +62,10 @@ def parse_loads(raw: Any, geo: Geometry, thickness: float | None = None) -> tupl
                 f"{where}.type = {show(kind)} is not a load type hingeline knows; "
                 f"available load types: {words(LOAD_KEYS)}"
             )
+        if OLD_SCALED_KEY in lt:
+            raise Invalid(f"{where}.factored is no longer a key: write scaled = {str(lt[OLD_SCALED_KEY]).lower()} "
+                          "instead (scaled = false: the load is held at its value while the others are "
+                          "multiplied by the load factor; partial factors go in gamma = <factor>)")
         check_keys(lt, LOAD_KEYS[kind], f"{where} (type \"{kind}\")")
         if kind == "self_weight":
             load = _parse_self_weight(lt, where, thickness)
@@ -71,14 +80,27 @@ def parse_loads(raw: Any, geo: Geometry, thickness: float | None = None) -> tupl
         loads.append(load)
     if not any(ld.factored for ld in loads):
         raise Invalid(
-            "every load has factored = false, so there is nothing for the load factor to scale; "
-            "make at least one load factored (factored = true, the default)"
+            "every load has scaled = false, so there is nothing for the load factor to multiply; "
+            "make at least one load scaled (scaled = true, the default)"
         )
     return tuple(loads)
 
 
+def _scaled_gamma(t: dict, where: str, named: str = "") -> tuple[bool, float]:
+    """(scaled, gamma) of a [[load]] table: whether the load factor multiplies the load, and
+    its partial factor."""
+    scaled = t.get("scaled", True)
+    if not isinstance(scaled, bool):
+        raise Invalid(f"{where}.scaled{named} must be true or false (no quotes), got {show(scaled)}")
+    gamma = number(t.get("gamma", 1.0), f"{where}.gamma{named}", "")
+    if gamma <= 0:
+        raise Invalid(f"{where}.gamma{named} = {fmt(gamma)} must be > 0 (a partial factor such as 1.35 or 1.5)")
+    return scaled, gamma
+
+
 def _load_common(t: dict, where: str, index: int, unit: str, kind: str):
-    """(name, named, value, factored) of a [[load]] table; named is the " (load "...")" suffix."""
+    """(name, named, design value (gamma applied), scaled, gamma) of a [[load]] table; named
+    is the " (load "...")" suffix."""
     name = t.get("name", f"load {index + 1}")
     if not isinstance(name, str) or not name.strip():
         raise Invalid(f"{where}.name must be non-empty text in quotes, got {show(name)}")
@@ -88,10 +110,8 @@ def _load_common(t: dict, where: str, index: int, unit: str, kind: str):
     value = number(t["value"], f"{where}.value{named}", unit)
     if value <= 0:
         raise Invalid(f"{where}.value{named} is {fmt(value)} {unit}; {kind} must be > 0 {unit} (downward)")
-    factored = t.get("factored", True)
-    if not isinstance(factored, bool):
-        raise Invalid(f"{where}.factored{named} must be true or false (no quotes), got {show(factored)}")
-    return name, named, value, factored
+    scaled, gamma = _scaled_gamma(t, where, named)
+    return name, named, value * gamma, scaled, gamma
 
 
 def _on_slab(geom, what: str, geo: Geometry) -> None:
@@ -109,40 +129,38 @@ def _parse_self_weight(t: dict, where: str, thickness: float | None) -> AreaLoad
     """Self-weight as a uniform area load: unit weight (kN/m^3) x slab.thickness (m)."""
     if thickness is None:
         raise Invalid(f"{where} (type \"self_weight\") needs the slab thickness: add thickness = <m> to [slab]")
-    gamma = number(t.get("unit_weight", UNIT_WEIGHT), f"{where}.unit_weight", "kN/m^3")
-    if gamma <= 0:
-        raise Invalid(f"{where}.unit_weight = {fmt(gamma)} kN/m^3 must be > 0")
+    unit_weight = number(t.get("unit_weight", UNIT_WEIGHT), f"{where}.unit_weight", "kN/m^3")
+    if unit_weight <= 0:
+        raise Invalid(f"{where}.unit_weight = {fmt(unit_weight)} kN/m^3 must be > 0")
     name = t.get("name", "self weight")
     if not isinstance(name, str) or not name.strip():
         raise Invalid(f"{where}.name must be non-empty text in quotes, got {show(name)}")
-    factored = t.get("factored", True)
-    if not isinstance(factored, bool):
-        raise Invalid(f"{where}.factored must be true or false (no quotes), got {show(factored)}")
-    return AreaLoad(value=gamma * thickness, region=None, factored=factored, name=name)
+    scaled, gamma = _scaled_gamma(t, where)
+    return AreaLoad(value=unit_weight * thickness * gamma, region=None, factored=scaled, name=name, gamma=gamma)
 
 
 def _parse_point_load(t: dict, where: str, geo: Geometry, index: int) -> PointLoad:
-    name, named, value, factored = _load_common(t, where, index, "kN", "a point load")
+    name, named, value, scaled, gamma = _load_common(t, where, index, "kN", "a point load")
     if "at" not in t:
         raise Invalid(f"{where}{named} has no at; add at = [x, y] (m)")
     at = points([t["at"]], f"{where}.at{named}")[0]
     _on_slab(shapely.Point(at), f"{where}.at{named} = {pt(at)}", geo)
-    return PointLoad(value=value, at=frozen(np.array(at, float)), factored=factored, name=name)
+    return PointLoad(value=value, at=frozen(np.array(at, float)), factored=scaled, name=name, gamma=gamma)
 
 
 def _parse_line_load(t: dict, where: str, geo: Geometry, index: int) -> LineLoad:
-    name, named, value, factored = _load_common(t, where, index, "kN/m", "a line load")
+    name, named, value, scaled, gamma = _load_common(t, where, index, "kN/m", "a line load")
     if "path" not in t:
         raise Invalid(f"{where}{named} has no path; add path = [[x1, y1], [x2, y2], ...] (m)")
     path = points(t["path"], f"{where}.path{named}")
     if len(path) < 2 or np.any(np.hypot(*np.diff(path, axis=0).T) <= geo.tol):
         raise Invalid(f"{where}.path{named} needs at least two points, each apart from the one before it")
     _on_slab(shapely.LineString(path), f"{where}.path{named}", geo)
-    return LineLoad(value=value, path=frozen(np.array(path, float)), factored=factored, name=name)
+    return LineLoad(value=value, path=frozen(np.array(path, float)), factored=scaled, name=name, gamma=gamma)
 
 
 def _parse_area_load(t: dict, where: str, geo: Geometry, index: int) -> AreaLoad:
-    name, named, value, factored = _load_common(t, where, index, "kPa", "an area load")
+    name, named, value, scaled, gamma = _load_common(t, where, index, "kPa", "an area load")
     region = None
     if "region" in t:
         rwhere = f"{where}.region{named}"
@@ -167,14 +185,14 @@ def _parse_area_load(t: dict, where: str, geo: Geometry, index: int) -> AreaLoad
                 )
         region, _ = counter_clockwise(user)
         region = frozen(region)
-    return AreaLoad(value=value, region=region, factored=factored, name=name)
+    return AreaLoad(value=value, region=region, factored=scaled, name=name, gamma=gamma)
 
 
 _LOAD_PARSERS = {"area": _parse_area_load, "line": _parse_line_load, "point": _parse_point_load}
 
 
 def parse_cases(raw: Any, loads) -> tuple[LoadCase, ...]:
-    """The [[case]] tables: each names loads of `loads` by name, at least one of them factored."""
+    """The [[case]] tables: each names loads of `loads` by name, at least one of them scaled."""
     by_name = {ld.name: ld for ld in loads}
     out, seen = [], set()
     for i, where, t in tables(raw, "case", "each load case", CASE_KEYS):
@@ -190,6 +208,6 @@ def parse_cases(raw: Any, loads) -> tuple[LoadCase, ...]:
                 raise Invalid(f"{where} (\"{name}\") refers to load \"{n}\", which no [[load]] has as its name; "
                               f"loads are: {words(by_name)}")
         if not any(by_name[n].factored for n in names):
-            raise Invalid(f"{where} (\"{name}\") has no factored load, so nothing for the load factor to scale")
+            raise Invalid(f"{where} (\"{name}\") has no scaled load, so nothing for the load factor to multiply")
         out.append(LoadCase(name, tuple(names)))
     return tuple(out)

@@ -58,17 +58,20 @@ class Capacity:
 class AreaLoad:
     """Uniform area load.
 
-    value: kPa, > 0 (downward).
+    value: kPa, > 0 (downward): the design value, the partial factor `gamma` applied.
     region: (k, 2) polygon in m (counter-clockwise) or None for the whole slab
         (openings excluded).
-    factored: True if scaled by the load factor, False if held constant.
+    factored: True if multiplied by the load factor (file key `scaled`), False if held
+        at its value.
     name: label used in messages and reports ("load 1", ... when not given).
+    gamma: the partial factor the file gave (1 when none); value already includes it.
     """
 
     value: float
     region: np.ndarray | None = None
     factored: bool = True
     name: str = ""
+    gamma: float = 1.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -76,13 +79,14 @@ class LineLoad:
     """Uniform load along a polyline.
 
     value: kN/m of path length, > 0 (downward); path: (k, 2) vertices in m, k >= 2,
-    lying on the slab; factored and name as for AreaLoad.
+    lying on the slab; factored, name and gamma as for AreaLoad.
     """
 
     value: float
     path: np.ndarray
     factored: bool = True
     name: str = ""
+    gamma: float = 1.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -93,6 +97,7 @@ class PointLoad:
     at: np.ndarray
     factored: bool = True
     name: str = ""
+    gamma: float = 1.0
 
 
 @dataclass(frozen=True, eq=False)

@@ -133,7 +133,8 @@ def model_to_dict(model: Model) -> dict:
 
 
 def _load_to_dict(load) -> dict:
-    common = {"name": load.name, "value": _float(load.value), "factored": bool(load.factored)}
+    common = {"name": load.name, "value": _float(load.value), "factored": bool(load.factored),
+              "gamma": _float(load.gamma)}
     if hasattr(load, "at"):
         return {"type": "point", **common, "at": [_float(c) for c in load.at]}
     if hasattr(load, "path"):

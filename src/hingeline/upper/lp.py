@@ -124,7 +124,7 @@ def _run(h):
     status = h.getModelStatus()
     if status == highspy.HighsModelStatus.kUnbounded:
         raise HeldLoadCollapse(
-            "the slab collapses under its held (unfactored) loads alone: there is a mechanism whose "
+            "the slab collapses under its held loads (scaled = false) alone: there is a mechanism whose "
             "held-load work exceeds its internal work; reduce the held loads or add strength/supports")
     if status == highspy.HighsModelStatus.kInfeasible:
         raise SolverError("the linear program is infeasible: no mechanism does positive work "
