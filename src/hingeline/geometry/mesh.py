@@ -53,6 +53,9 @@ def _linework(domain: Domain, model: Model):
             lines.append(LineString(load.path))
         elif hasattr(load, "at"):
             extra_points.append(np.asarray(load.at, float))
+    # Bearing points of pinned columns are nodes too: w = 0 is imposed there, and the fans
+    # of a mechanism rotating over a bearing centre on it.
+    extra_points += list(domain.bearings)
     # Node the linework: split every piece where it meets another, drop repeats.
     noded = shapely.union_all(lines)
     segs = []
@@ -102,8 +105,8 @@ def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
     info = triangle.MeshInfo()
     info.set_points(pts.tolist())
     info.set_facets(facets.tolist())
-    # Footprints of columns and walls are ground, outside D: holes of the mesh.
-    holes = [part.representative_point().coords[0] for sp in model.supports
+    # Footprints held as ground (walls, monolithic columns) lie outside D: holes of the mesh.
+    holes = [part.representative_point().coords[0] for sp in model.supports if not sp.bearing
              for part in getattr(sp.polygon, "geoms", [sp.polygon])]
     if holes:
         info.set_holes(holes)
