@@ -131,7 +131,7 @@ def test_interior_pinned_column_fans_through_its_bearing():
     at = (np.hypot(*yl.start.T) < 1e-6) | (np.hypot(*yl.end.T) < 1e-6)
     # A fan of hogging lines meets at the bearing node and surrounds it (a fold through the
     # bearing would leave a gap of 180 degrees between directions).
-    assert at.sum() >= 5 and not yl.sagging[at].any()
+    assert at.sum() >= 8 and not yl.sagging[at].any()
     d = np.where(np.hypot(*yl.start[at].T)[:, None] < 1e-6, yl.end[at], yl.start[at])
     ang = np.sort(np.arctan2(d[:, 1], d[:, 0]))
     assert np.diff(np.r_[ang, ang[0] + 2 * np.pi]).max() < np.radians(120)
@@ -141,9 +141,11 @@ def test_interior_pinned_column_fans_through_its_bearing():
     lb = r.lower_bound.load_factor
     plateau = plateau_mechanism(16, 3.0)
     assert lb is not None and 0 < lb <= min(plateau, r.load_factor) * (1 + 1e-6)
-    # The LP's fan has finitely many lines and a finite radius: measured +8.9 % above the
-    # plateau mechanism at "coarse" (+3.9 % at "normal").
-    assert r.load_factor <= 1.15 * plateau
+    # The LP's fan has finitely many lines and a finite radius: measured +1.1 % above the
+    # plateau mechanism at "coarse", the lower bound 2.8 % below it (mesh.py's ring of nodes
+    # round the bearing; without it +8.9 % and -16.8 %).
+    assert r.load_factor <= 1.03 * plateau
+    assert lb >= 0.95 * plateau
 
 
 def test_certificate_sees_a_bearing_that_moves():
@@ -164,7 +166,9 @@ def test_field_check_needs_the_bearing_reactions():
     mesh = mesh_domain(domain, model, mesh_size_for(model, "coarse"))
     sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
     ok = check_field(model, domain, sol.field, sol.load_factor)
-    assert ok.in_equilibrium and ok.yield_ratio <= 1.0
+    # Solved here in the model's units (solve() works dimensionless): the yield ratio may pass 1
+    # by the solver's tolerance, by which solve() would scale the bound down (no held loads).
+    assert ok.in_equilibrium and ok.yield_ratio <= 1 + 1e-5
     bad = check_field(replace(model, supports=()), domain, sol.field, sol.load_factor)
     assert not bad.in_equilibrium
     # Statics: four reactions carry the whole load, so the largest is at least a quarter of it.
