@@ -9,7 +9,8 @@ Slabs (m, kPa, kNm/m; sagging = hogging = 10, uniform 1 kPa):
 
 - ``corners``: 6 m square, free edges, four 0.05 m pinned columns centred on its corners.
   Closed form 8 m / L^2, exact for m' = m (fold mechanism and a matching moment field,
-  derived in tests/upper/test_pinned_columns.py).
+  derived in tests/upper/test_pinned_columns.py, whose models and closed forms this script
+  uses).
 - ``inset``: the same with the columns centred 0.025 m in from both edges (wholly under the
   slab). Closed form: the fold about the lines through the column centres,
   8 m / (L (L - 4c)), c = 0.025 m (work equation, derived; an upper bound).
@@ -30,74 +31,38 @@ from __future__ import annotations
 
 import argparse
 import datetime
+import importlib.util
 import os
 import platform
 import subprocess
 import time
 from pathlib import Path
 
-import numpy as np
-
 import hingeline
 
 ROOT = Path(__file__).resolve().parent.parent
-M, L = 10.0, 6.0
-
-SQUARE = """
-[slab]
-outline = [[0, 0], [6, 0], [6, 6], [0, 6]]
-edges = "free"
-{columns}
-[capacity]
-sagging = 10.0
-hogging = 10.0
-[[load]]
-type = "area"
-value = 1.0
-[analysis]
-resolution = "{resolution}"
-"""
-
-POLYGON = """
-[slab]
-outline = {outline}
-edges = "simple"
-[[column]]
-at = [0.0, 0.0]
-size = [0.3, 0.3]
-connection = "pinned"
-[capacity]
-sagging = 10.0
-hogging = 10.0
-[[load]]
-type = "area"
-value = 1.0
-[analysis]
-resolution = "{resolution}"
-"""
 
 
-def columns(centres, size=0.05) -> str:
-    return "\n".join(f'[[column]]\nat = [{x}, {y}]\nsize = [{size}, {size}]\nconnection = "pinned"'
-                     for x, y in centres)
-
-
-def polygon(n: int, radius: float) -> str:
-    ang = np.arange(n) * 2 * np.pi / n
-    return "[" + ", ".join(f"[{radius * np.cos(a):.12f}, {radius * np.sin(a):.12f}]" for a in ang) + "]"
+def _slabs():
+    """The test suite's models and closed forms of these slabs, loaded from
+    tests/upper/test_pinned_columns.py without touching sys.path (one derivation of each)."""
+    spec = importlib.util.spec_from_file_location("pinned_slabs", ROOT / "tests" / "upper" / "test_pinned_columns.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
 
 
 def cases():
-    """name -> (model text with {resolution}, closed form, kind)."""
+    """name -> (model text at "coarse", closed form, kind)."""
+    t = _slabs()
     c = 0.025
-    inset = [(c, c), (L - c, c), (L - c, L - c), (c, L - c)]
-    r = 3.0 * np.cos(np.pi / 16)
-    x = np.linspace(0.0, 0.99, 99001)
-    plateau_value = float(np.min(6 * (M + M + M / (1 - x)) / (r**2 * (1 + x + x * x))))
+    inset = [(c, c), (t.L - c, c), (t.L - c, t.L - c), (c, t.L - c)]
+    corners = [(0, 0), (t.L, 0), (t.L, t.L), (0, t.L)]
     return {
-        "corners": (SQUARE.replace("{columns}", columns([(0, 0), (L, 0), (L, L), (0, L)])), 8 * M / L**2, "exact"),
-        "inset": (SQUARE.replace("{columns}", columns(inset)), 8 * M / (L * (L - 4 * c)), "mechanism"),
-        "16-gon": (POLYGON.replace("{outline}", polygon(16, 3.0)), plateau_value, "mechanism"),
+        "corners": (t.SQUARE.format(columns=t.columns(corners)), t.corner_bearings(0.0), "exact"),
+        "inset": (t.SQUARE.format(columns=t.columns(inset)), t.corner_bearings(c), "mechanism"),
+        "16-gon": (t.POLYGON.format(outline=t.regular_polygon(16, 3.0), column=t.CENTRE_COLUMN),
+                   t.plateau_mechanism(16, 3.0), "mechanism"),
     }
 
 
@@ -106,12 +71,12 @@ def header() -> str:
         commit = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=ROOT, capture_output=True,
                                 text=True, check=True).stdout.strip()
         dirty = subprocess.run(["git", "status", "--porcelain", "--untracked-files=no"], cwd=ROOT,
-                               capture_output=True, text=True).stdout.strip()
+                               capture_output=True, text=True, check=False).stdout.strip()
         commit += " (with uncommitted changes)" if dirty else ""
     except (OSError, subprocess.CalledProcessError):
         commit = "unknown"
     machine = f"{platform.machine()}, {os.cpu_count()} cores, {platform.system()} {platform.release()}"
-    date = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    date = datetime.datetime.now(datetime.UTC).strftime("%Y-%m-%d %H:%M UTC")
     return f"machine: {machine}; Python {platform.python_version()}\ndate: {date}; commit: {commit}"
 
 
@@ -131,7 +96,7 @@ def main() -> None:
     for res in args.resolutions.split(","):
         for name, (text, closed, kind) in cases().items():
             t0 = time.perf_counter()
-            r = hingeline.solve(hingeline.model_from_toml(text.replace("{resolution}", res)))
+            r = hingeline.solve(hingeline.model_from_toml(text.replace('resolution = "coarse"', f'resolution = "{res}"')))
             seconds = time.perf_counter() - t0
             lf = r.load_factor
             lb = r.lower_bound.load_factor if r.lower_bound is not None else None

@@ -117,6 +117,11 @@ def _bearing_rings(domain: Domain, pts: np.ndarray, facets: np.ndarray, size: fl
     ang = 2 * np.pi * np.arange(BEARING_RING) / BEARING_RING
     ring = (domain.bearings[:, None, :] + rho * np.stack([np.cos(ang), np.sin(ang)], axis=1)[None]).reshape(-1, 2)
     ok = shapely.contains_xy(domain.slab, ring[:, 0], ring[:, 1])
+    # Not inside another bearing's ring (columns standing closer than the element size).
+    own = np.repeat(np.arange(len(domain.bearings)), BEARING_RING)
+    d = np.hypot(*(ring[:, None, :] - domain.bearings[None]).transpose(2, 0, 1))
+    d[np.arange(len(ring)), own] = np.inf
+    ok &= d.min(axis=1) > rho
     ok &= segment_distance(ring, pts[facets]).min(axis=1, initial=np.inf) > 0.25 * rho
     ok &= np.hypot(*(ring[:, None, :] - pts[None]).transpose(2, 0, 1)).min(axis=1, initial=np.inf) > 0.25 * rho
     return ring[ok]
