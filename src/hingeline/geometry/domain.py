@@ -39,7 +39,7 @@ class Domain:
         islands of ground, i.e. monolithic columns and walls standing inside the slab).
     islands: the island rings; each needs its own conditions in the LP (w and slope 0).
     bearings: (k, 2) centres of pinned columns, m: points of the slab held at w = 0 only
-        (their footprints stay slab); bearing_label: (k,) the columns' names.
+        (their footprints stay slab).
     slab: shapely Polygon of the slab (outline with openings as holes, less the footprints
         of the supports held as ground).
     region: shapely Polygon of D.
@@ -62,7 +62,6 @@ class Domain:
     margin: float
     scale: float
     bearings: np.ndarray
-    bearing_label: tuple[str, ...]
 
     @property
     def tol(self) -> float:
@@ -144,7 +143,7 @@ def build_domain(model: Model, margin: float) -> Domain:
         islands = [r for part in getattr(region, "geoms", [region]) for r in _rings(part)[1:]]
     bearings = np.array([sp.centre for sp in bearing], float).reshape(-1, 2)
     return Domain(tuple(_rings(region)), tuple(islands), slab_poly, region, edges, edge_kind,
-                  tuple(labels), fixity, used, scale, bearings, tuple(sp.name for sp in bearing))
+                  tuple(labels), fixity, used, scale, bearings)
 
 
 def _rings(poly) -> list[np.ndarray]:
