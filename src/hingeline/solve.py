@@ -11,6 +11,7 @@ from dataclasses import replace
 
 import numpy as np
 import shapely
+from scipy import sparse
 
 from . import rescale, review
 from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
@@ -22,7 +23,7 @@ from .model.scaling import Scales, dimensionless, scales_of, size_warning
 from .result import CertificateCheck, LowerBound, Result, SolveStats, Work
 from .upper.candidates import build_candidates
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
-from .upper.loadwork import island_rows, load_coefficients
+from .upper.loadwork import bearing_rows, island_rows, load_coefficients
 from .upper.lp import solve_lp
 from .upper.mechanism import build_mechanism, yield_lines
 
@@ -145,7 +146,10 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
 
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
-    extra = island_rows(p, q, domain.islands) if domain.islands else None
+    # Rows that hold the supports inside the slab: islands of ground at rest (3 rows each),
+    # bearing points of pinned columns at w = 0 (1 row each).
+    extra = sparse.hstack([island_rows(p, q, domain.islands), bearing_rows(p, q, domain.bearings)], format="csr")
+    extra = extra if extra.shape[1] else None
     sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, tol=VIOLATION_TOL, extra=extra)
     lf = sol.objective
     # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).

@@ -3,7 +3,8 @@
 Holds the evaluation of a pattern at given parameter values: each region's polygon
 (clipped to the slab) and its plane w = c0 + c1 x + c2 y from its motion; the checks
 that the regions cover the slab without overlap, fit together along shared boundaries
-and hold w = 0 on supported edges (ModelError naming the region or pair of regions);
+and hold w = 0 on supported edges and at the centres of pinned columns (ModelError naming
+the region or pair of regions);
 the constrained triangulation of the slab with every region boundary as a segment; and
 the resulting P1 deflection field (`pattern_mechanism`).
 
@@ -166,6 +167,19 @@ def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, 
                         f"region '{names[i]}': w = {wi:.6g} m at {_xy(pt)} on the supported "
                         f"{edge_label(model, k)}; a supported edge holds w = 0, so the region must "
                         "rotate about that edge (or not touch it)")
+    # A pinned column holds its centre at w = 0 (and nothing else): a region on it must pass
+    # through w = 0 there.
+    for sp in model.supports:
+        if not sp.bearing:
+            continue
+        for i, s in enumerate(shapes):
+            if shapely.distance(shapely.Point(sp.centre), s) <= tol_len:
+                wi = _w(planes_a[i], sp.centre)[0]
+                if abs(wi) > tol_w:
+                    raise ModelError(
+                        f"region '{names[i]}': w = {wi:.6g} m at {_xy(sp.centre)}, the centre of the pinned "
+                        f"{sp.name}; a pinned column holds w = 0 there, so the region must pass through it "
+                        "at zero deflection (or not touch it)")
 
 
 def _check_fit(names, shapes, planes_a, raw, tol_len: float, tol_w: float) -> None:

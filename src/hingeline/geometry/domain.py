@@ -36,9 +36,12 @@ class Domain:
     """The analysis domain and the slab inside it.
 
     rings: every boundary ring of D as a (k, 2) array (outer rings and the rings round
-        islands of ground, i.e. columns and walls standing inside the slab).
+        islands of ground, i.e. monolithic columns and walls standing inside the slab).
     islands: the island rings; each needs its own conditions in the LP (w and slope 0).
-    slab: shapely Polygon of the slab (outline with openings as holes).
+    bearings: (k, 2) centres of pinned columns, m: points of the slab held at w = 0 only
+        (their footprints stay slab).
+    slab: shapely Polygon of the slab (outline with openings as holes, less the footprints
+        of the supports held as ground).
     region: shapely Polygon of D.
     edges: (e, 2, 2) straight pieces of the slab boundary (outline and openings).
     edge_kind: (e,) kind code of each piece (FREE, SIMPLE, CONTINUOUS, OPENING, FACE_*);
@@ -58,6 +61,7 @@ class Domain:
     edge_fixity: np.ndarray     # (e,) share of the hogging capacity mobilised on continuous edges
     margin: float
     scale: float
+    bearings: np.ndarray
 
     @property
     def tol(self) -> float:
@@ -102,8 +106,12 @@ def build_domain(model: Model, margin: float) -> Domain:
     scale = float(np.hypot(*(hi - lo)))
 
     edges, edge_kind, labels, fixity = [], [], [], []
-    footprint = shapely.union_all([sp.polygon for sp in model.supports]) if model.supports else None
-    for sp in model.supports:
+    # A pinned column is a bearing point, not ground: its footprint stays slab, so the slab can
+    # rotate over the centre in any direction (holding the footprint flat would be unsafe).
+    ground = [sp for sp in model.supports if not sp.bearing]
+    bearing = [sp for sp in model.supports if sp.bearing]
+    footprint = shapely.union_all([sp.polygon for sp in ground]) if ground else None
+    for sp in ground:
         for ring in _rings(sp.polygon):
             edges.append(_closed_edges(ring))
             edge_kind.append(np.full(len(ring), FACE_MONOLITHIC if sp.connection == "monolithic" else FACE_PINNED))
@@ -133,8 +141,9 @@ def build_domain(model: Model, margin: float) -> Domain:
         region = region.difference(footprint)
         slab_poly = slab_poly.difference(footprint)
         islands = [r for part in getattr(region, "geoms", [region]) for r in _rings(part)[1:]]
+    bearings = np.array([sp.centre for sp in bearing], float).reshape(-1, 2)
     return Domain(tuple(_rings(region)), tuple(islands), slab_poly, region, edges, edge_kind,
-                  tuple(labels), fixity, used, scale)
+                  tuple(labels), fixity, used, scale, bearings)
 
 
 def _rings(poly) -> list[np.ndarray]:

@@ -267,6 +267,21 @@ def point_loads_at_nodes(model: Model, nodes: np.ndarray, tol: float) -> np.ndar
     return out
 
 
+def bearing_nodes(points: np.ndarray, nodes: np.ndarray, tol: float) -> np.ndarray:
+    """(n,) True at the nodes on bearing points (k, 2), m: the centres of pinned columns, where
+    the column takes a concentrated reaction of either sign (supports are two-sided) and no
+    corner-force balance is written. Every bearing point must sit on a node (within tol, m)."""
+    out = np.zeros(len(nodes), bool)
+    for c in np.asarray(points, float).reshape(-1, 2):
+        d = np.hypot(*(nodes - c).T)
+        k = int(d.argmin())
+        if d[k] > tol:
+            raise SolverError(f"lower bound: the bearing point {c.tolist()} of a pinned column is not on a mesh node; "
+                              "report this model to the developers")
+        out[k] = True
+    return out
+
+
 # Boundary kinds with free edges' conditions (m_n = 0, V_n = q), and all kinds with m_n = 0.
 FREE_KINDS = (FREE, OPENING)
 ZERO_MN_KINDS = (FREE, OPENING, SIMPLE, FACE_PINNED)

@@ -11,7 +11,8 @@ admissibility is evaluated at points:
 - boundary conditions at 5 points of every boundary side (free: m_n = 0, V_n = q;
   simple and pinned faces: m_n = 0; continuous and monolithic faces:
   -fixity m'_n <= m_n <= 0);
-- corner forces (kN) at every node off the supports;
+- corner forces (kN) at every node off the supports (supported sides and the bearing points of
+  pinned columns, taken from the model's columns, not from the solver's rows);
 - the total load the field carries (area loads on the triangles, line loads on their sides,
   point loads at their nodes) against the loads of the model on the slab (shapely);
 - the exact yield criterion (Nielsen's, in the bar axes) as a ratio: the smallest s with
@@ -44,6 +45,7 @@ from .elements import (
     ZERO_MN_KINDS,
     MomentField,
     bar_rotation,
+    bearing_nodes,
     control_values,
     element_capacities,
     element_loads,
@@ -260,6 +262,8 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     supported = np.zeros(len(nodes), bool)
     sup = np.isin(sd.kind, SUPPORTED)
     supported[sd.a[sup]] = supported[sd.b[sup]] = True
+    bearings = [sp.centre for sp in model.supports if sp.bearing]
+    supported |= bearing_nodes(np.array(bearings, float).reshape(-1, 2), nodes, 1e-7 * domain.scale)
     arrive = _mnt(poly.value(sd.tri, nodes[sd.b]), sd.normal, sd.tangent)
     leave = _mnt(poly.value(sd.tri, nodes[sd.a]), sd.normal, sd.tangent)
     corner = np.zeros(len(nodes))

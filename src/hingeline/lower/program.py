@@ -14,6 +14,8 @@ mesh that lie in the slab (elements.py holds the element definitions), as a cone
   a line load q: V_n(1) + V_n(2) = q, each in the side's own outward frame.
 - At every node not on a support: the corner forces from the jumps of m_nt balance,
   sum over triangles of (m_nt of the side arriving - m_nt of the side leaving) = -P.
+  Nodes on supported sides and the bearing points of pinned columns (their centres; the
+  footprint is slab) take the unbalanced corner force as a free concentrated reaction.
 - Boundary sides: free edges and openings m_n = 0 and V_n = q; simply supported edges and
   pinned faces of columns and walls m_n = 0; continuous edges and monolithic faces
   -fixity m'_n <= m_n <= 0 (hogging restraint only, as the upper bound assumes; m_n = 0
@@ -61,6 +63,7 @@ from .elements import (
     ZERO_MN_KINDS,
     MomentField,
     Sides,
+    bearing_nodes,
     element_capacities,
     element_loads,
     gradients,
@@ -227,6 +230,7 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
     supported = np.zeros(len(nodes), bool)
     sup = np.isin(sd.kind, SUPPORTED)
     supported[sd.a[sup]] = supported[sd.b[sup]] = True
+    supported |= bearing_nodes(domain.bearings, nodes, 1e-7 * domain.scale)
     tw = twist_coeffs(sd.normal, sd.tangent)                         # (s, 3)
     # Side s arrives at its end node b (control j_loc) and leaves its start node a (control i_loc).
     node = np.concatenate([sd.b, sd.a])

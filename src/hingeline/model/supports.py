@@ -38,10 +38,12 @@ def parse_supports(columns: Any, walls: Any, geo: Geometry) -> tuple[Support, ..
             connection = t.get("connection", "monolithic")
             if connection not in CONNECTIONS:
                 raise Invalid(f"{where}.connection = {show(connection)}; use one of {words(CONNECTIONS)}")
+            centre = None
             if key == "column":
                 footprint, centre = _column_footprint(t, where)
                 if not geo.outline.buffer(geo.tol).covers(shapely.Point(centre)):
                     raise Invalid(f"{where} at {pt(centre)} stands outside slab.outline; move it under the slab")
+                centre = frozen(centre)
             else:
                 footprint = _wall_footprint(t, where, geo)
             for j, op in enumerate(geo.openings):
@@ -50,7 +52,7 @@ def parse_supports(columns: Any, walls: Any, geo: Geometry) -> tuple[Support, ..
             part = footprint.intersection(geo.outline)
             if part.area <= geo.area_tol:
                 raise Invalid(f"{where} does not meet the slab; move it under the slab")
-            out.append(Support(polygon=part, connection=connection, name=name))
+            out.append(Support(polygon=part, connection=connection, name=name, centre=centre))
     for a in range(len(out)):
         for b in range(a + 1, len(out)):
             if out[a].polygon.intersection(out[b].polygon).area > geo.area_tol:

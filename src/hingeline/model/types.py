@@ -137,12 +137,23 @@ class LoadCase:
 @dataclass(frozen=True, eq=False)
 class Support:
     """A column or wall under the slab: its footprint (shapely Polygon, m, clipped to the
-    outline) is rigid ground; connection "monolithic" (hinges round its faces mobilise the
-    hogging capacity) or "pinned" (the slab rotates freely about its faces)."""
+    outline) and connection "monolithic" or "pinned"; centre (2,) in m for a column, None for
+    a wall.
+
+    A monolithic column or any wall holds its footprint as rigid ground; hinges round the
+    faces of a monolithic one mobilise the hogging capacity, those of a pinned wall cost
+    nothing. A pinned column is a bearing point: it holds w = 0 at its centre only and the
+    slab, footprint included, rotates over it in any direction (docs/method.md)."""
 
     polygon: Polygon
     connection: str
     name: str
+    centre: np.ndarray | None = None
+
+    @property
+    def bearing(self) -> bool:
+        """True for a pinned column, which supports the slab at its centre point only."""
+        return self.connection == "pinned" and self.centre is not None
 
 
 @dataclass(frozen=True, eq=False)

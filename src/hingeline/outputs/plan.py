@@ -161,8 +161,18 @@ def draw_openings(ax: Axes, openings: tuple[np.ndarray, ...]) -> None:
 
 
 def draw_supports(ax: Axes, model) -> None:
-    """Columns and walls: solid dark footprints; monolithic ones with a white cross-hatch."""
+    """Columns and walls: solid dark footprints; monolithic ones with a white cross-hatch. A
+    pinned column is slab over a bearing point: a dashed footprint outline and a dot at its
+    centre, so that yield lines crossing the footprint stay visible."""
     for sp in model.supports:
+        if sp.bearing:
+            for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+                ax.add_patch(Polygon(np.asarray(part.exterior.coords), closed=True, facecolor="none",
+                                     edgecolor=EDGE_COLOUR, linestyle=(0, (2, 1.5)), linewidth=0.8, zorder=5,
+                                     label="_support"))
+            ax.plot([sp.centre[0]], [sp.centre[1]], marker="o", markersize=4, color=EDGE_COLOUR, zorder=7,
+                    label="_bearing")
+            continue
         for part in getattr(sp.polygon, "geoms", [sp.polygon]):
             ax.add_patch(Polygon(np.asarray(part.exterior.coords), closed=True, facecolor="0.2",
                                  edgecolor=EDGE_COLOUR, hatch="++" if sp.connection == "monolithic" else None,
@@ -280,9 +290,12 @@ def plan_handles(model, loads: bool = True) -> list:
     if model.zones:
         handles.append(Line2D([], [], linestyle=(0, (6, 2, 1, 2, 1, 2)), linewidth=0.9, color="0.25",
                               label="reinforcement zone"))
-    conns = {sp.connection for sp in model.supports}
+    conns = {sp.connection for sp in model.supports if not sp.bearing}
+    if any(sp.bearing for sp in model.supports):
+        handles.append(Line2D([], [], linestyle="none", marker="o", markersize=4, color=EDGE_COLOUR,
+                              label="column, pinned (bearing at its centre)"))
     if "pinned" in conns:
-        handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, label="column or wall, pinned"))
+        handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, label="wall, pinned"))
     if "monolithic" in conns:
         handles.append(Patch(facecolor="0.2", edgecolor=EDGE_COLOUR, hatch="++", label="column or wall, monolithic"))
     return handles

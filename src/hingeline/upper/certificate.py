@@ -10,6 +10,8 @@ recomputes the work equation without any of the solver's lines or coefficients:
   simply supported edges cost nothing; continuous edges cost their hogging capacity);
 - external work: the exact integral of each area load over the P1 field (each
   triangle clipped to the load's polygon, the linear w integrated over the piece);
+- supports: |w| on supported edges and faces and at the bearing points of pinned columns
+  (their centres: a pinned column holds the slab there only, its footprint is slab);
 - load factor = (internal - held-load work) / factored-load work.
 
 Units: m, kNm/m, kPa; work in kNm. w positive downward; theta > 0 sagging.
@@ -53,6 +55,8 @@ def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
     edges = [np.array([[outline[k], outline[(k + 1) % len(outline)]] for k in ks]).reshape(-1, 2, 2)]
     hog = [np.array([fixity[k] if model.slab.edges[k] == "continuous" else 0.0 for k in ks])]
     for sp in model.supports:
+        if sp.bearing:
+            continue
         for part in getattr(sp.polygon, "geoms", [sp.polygon]):
             ring = np.asarray(part.exterior.coords)
             edges.append(np.stack([ring[:-1], ring[1:]], axis=1))
@@ -61,10 +65,12 @@ def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
 
 
 def slab_region(model: Model):
-    """The slab as a shapely polygon: outline less openings and the footprints of supports."""
+    """The slab as a shapely polygon: outline less openings and the footprints of supports
+    held as ground (a pinned column's footprint is slab)."""
     slab = shapely.Polygon(model.slab.outline, list(model.slab.openings))
     for sp in model.supports:
-        slab = slab.difference(sp.polygon)
+        if not sp.bearing:
+            slab = slab.difference(sp.polygon)
     return slab
 
 
@@ -228,6 +234,10 @@ def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
     sup_edges, _ = _supported_edges(model)
     on_sup = (segment_distance(mech.vertices, sup_edges) <= _tolerance(model)).any(axis=1)
     max_w = float(np.abs(mech.w[on_sup]).max(initial=0.0))
+    bearings = np.array([sp.centre for sp in model.supports if sp.bearing], float).reshape(-1, 2)
+    if len(bearings):
+        g, _ = _gradients(mech.vertices, mech.triangles, mech.w)
+        max_w = max(max_w, float(np.abs(_field_at(mech.vertices, mech.triangles, mech.w, g, bearings)).max()))
     lf = (internal - held) / factored if factored > 0 else float("nan")
     return CertificateCheck(lf, internal, factored, held, max_w)
 

@@ -134,6 +134,14 @@ def island_rows(p: np.ndarray, q: np.ndarray, islands) -> sparse.csr_matrix:
                              shape=(len(p), 3 * len(islands)))
 
 
+def bearing_rows(p: np.ndarray, q: np.ndarray, bearings: np.ndarray) -> sparse.csr_matrix:
+    """Coefficients (c, k) of the conditions w = 0 at k bearing points (k, 2) in m, the centres
+    of pinned columns: one row each, w(c) as for a point load (point_load_work with a unit
+    force; it is minus w(c)). No slope is held, so the slab may rotate over the point."""
+    cols = [sparse.csr_matrix(point_load_work(p, q, c, 1.0)[:, None]) for c in np.asarray(bearings, float)]
+    return sparse.hstack(cols, format="csr") if cols else sparse.csr_matrix((len(p), 0))
+
+
 def line_load_work(p: np.ndarray, q: np.ndarray, path: np.ndarray, intensity: float) -> np.ndarray:
     """Work coefficients f (c,) in kNm/rad of a load `intensity` (kN/m) along the polyline `path`.
 

@@ -43,11 +43,13 @@ def active_lines(theta: np.ndarray) -> np.ndarray:
     return np.flatnonzero(np.abs(theta) > ACTIVE * np.abs(theta).max())
 
 
-def _arrangement(nodes, cand: Candidates, lines: np.ndarray, theta: np.ndarray, tol: float):
+def _arrangement(nodes, cand: Candidates, lines: np.ndarray, theta: np.ndarray, tol: float,
+                 keep: np.ndarray | None = None):
     """Split `lines` where they cross and where they pass within `tol` (m) of an end or a
     crossing of another line, so that no point of the arrangement lies closer than `tol` to a
     piece it does not end on (such a point would make a sliver triangle whose slopes amplify
-    round-off). Points closer than `tol` are one point.
+    round-off). Points closer than `tol` are one point. Nodes `keep` are points of the
+    arrangement even where no line uses them (bearing points, where w = 0 is set exactly).
 
     Returns (points, pieces (k, 2) with no two joining the same points, rotation of each piece:
     the sum of the rotations of the lines running along it). Sagging rotation does not depend on
@@ -62,7 +64,8 @@ def _arrangement(nodes, cand: Candidates, lines: np.ndarray, theta: np.ndarray, 
     ends = cluster[np.stack([cand.a[lines], cand.b[lines]], axis=1)]
     # Breakpoints per line: its two nodes (t = 0, 1), its crossings and the points it passes near
     # (ends and crossings of lines only: a node no line uses is left out of the arrangement).
-    used = np.unique(np.concatenate([ends.ravel(), cluster[n + np.arange(len(i))]]))
+    keep = np.zeros(0, int) if keep is None else keep
+    used = np.unique(np.concatenate([ends.ravel(), cluster[n + np.arange(len(i))], cluster[keep]]))
     si, sp, st = _near_points(reps[used], p, q, tol, ends, used)
     li = np.concatenate([np.arange(len(lines)), i, si, np.arange(len(lines))])
     lt = np.concatenate([np.zeros(len(lines)), t, st, np.ones(len(lines))])
@@ -139,7 +142,7 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
     # Points closer than 1e-8 of D's size are one point, and lines passing that close to a point
     # run through it: the pieces move by no more than that, while slivers thinner than it
     # would turn the round-off of w into slope jumps that the certificate prices.
-    pts, pieces, rotation = _arrangement(nodes, cand, lines, theta, 10 * domain.tol)
+    pts, pieces, rotation = _arrangement(nodes, cand, lines, theta, 10 * domain.tol, _bearing_nodes(nodes, domain))
     rotation = _compatible(pts, pieces, rotation)
 
     info = triangle.MeshInfo()
@@ -207,7 +210,8 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
         np.add.at(wsum, Ts[:, j], val)
         np.add.at(cnt, Ts[:, j], 1)
     w = (wsum / np.maximum(cnt, 1))[used]
-    # Ground is exactly flat: vertices on supported edges carry w = 0 by construction.
+    # Ground is exactly flat: vertices on supported edges and at bearing points carry w = 0
+    # by construction.
     Vs = V[used]
     on_support = _on_supported(Vs, domain)
     support_w = float(np.abs(w[on_support]).max(initial=0.0))
@@ -217,7 +221,22 @@ def build_mechanism(nodes, cand: Candidates, theta: np.ndarray, domain: Domain):
 
 def _on_supported(points, domain: Domain) -> np.ndarray:
     sup = np.isin(domain.edge_kind, SUPPORTED)
-    return (segment_distance(points, domain.edges[sup]) <= 10 * domain.tol).any(axis=1)
+    on = (segment_distance(points, domain.edges[sup]) <= 10 * domain.tol).any(axis=1)
+    if len(domain.bearings):
+        d = np.hypot(*(points[:, None, :] - domain.bearings[None]).transpose(2, 0, 1))
+        on |= (d <= 10 * domain.tol).any(axis=1)
+    return on
+
+
+def _bearing_nodes(nodes, domain: Domain) -> np.ndarray:
+    """Index of the node at each bearing point (the mesh puts one there)."""
+    if not len(domain.bearings):
+        return np.zeros(0, int)
+    d = np.hypot(*(nodes[:, None, :] - domain.bearings[None]).transpose(2, 0, 1))
+    k = d.argmin(axis=0)
+    if np.any(d[k, np.arange(len(k))] > 10 * domain.tol):
+        raise SolverError("a bearing point of a pinned column is not a mesh node; report this model to the developers")
+    return k
 
 
 def yield_lines(nodes, cand: Candidates, theta: np.ndarray, domain: Domain, model) -> YieldLines:
