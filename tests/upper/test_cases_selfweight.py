@@ -68,7 +68,7 @@ def test_cases_are_solved_and_the_lowest_governs():
 
 @pytest.mark.parametrize("case, item", [
     ('[[case]]\nname = "x"\nloads = ["nothing"]', 'refers to load "nothing"'),
-    ('[[case]]\nname = "x"\nloads = ["self weight"]', "no factored load"),
+    ('[[case]]\nname = "x"\nloads = ["self weight"]', "no scaled load"),
 ])
 def test_bad_cases(case, item):
     text = MODEL.split("[[case]]")[0] + case + "\n[analysis]\nresolution = \"coarse\"\n"
