@@ -198,7 +198,9 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
     the one closest to equilibrium (smallest relative residual) is kept."""
     tried, seconds = [], 0.0
     for attempt in range(len(SOLVER_SETTINGS)):
-        sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles, attempt)
+        # The upper bound sets only the unit of the solver's load factor (of order one, like the
+        # moments); the field is proven by its re-check alone.
+        sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles, attempt, load_unit=upper)
         seconds += sol.seconds
         if sol.load_factor is None:
             tried.append((sol, None))

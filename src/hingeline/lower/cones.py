@@ -28,7 +28,8 @@ the moment tensor M is positive semi-definite, and two more forms are used:
 
 After the solve, `tidy_controls` sets to exactly 0 the parts of the field that these
 conditions make 0 up to the solver's tolerance, so that the re-check (fieldcheck.py) reads
-the same structure from the field alone.
+the same structure from the field alone, and `lift_into_cones` moves the control values
+back inside the zero-capacity branch, which the solver meets only to its tolerance.
 
 Units: kNm/m. May import: `hingeline.model`, `.elements`; never `hingeline.upper`.
 """
@@ -43,6 +44,7 @@ from .elements import (
     SIDES,
     Sides,
     bar_rotation,
+    no_top_bars,
     normal_moment_coeffs,
     scaled_check_sides,
     scaled_controls,
@@ -155,4 +157,35 @@ def tidy_controls(controls: np.ndarray, sd: Sides, cap: np.ndarray) -> np.ndarra
     nn = normal_moment_coeffs(n)
     for k in scaled_controls(sd.local[s])[4:]:
         c[tau, k] -= np.einsum("kc,kc->k", c[tau, k], nn)[:, None] * _outer(n, n)
+    return c
+
+
+def lift_into_cones(controls: np.ndarray, sd: Sides, cap: np.ndarray) -> np.ndarray:
+    """Control values (t, 6, 3) of triangles without top bars moved into the hogging branch
+    they are meant to meet, by a constant per triangle of the size of the solver's tolerance.
+
+    A zero capacity has no CONE_MARGIN: the cone program meets "M positive semi-definite"
+    only to its tolerance, about 1e-8 of the capacities or worse when it ends "AlmostSolved",
+    which is as large as the slack the re-check allows a zero capacity (fieldcheck.CAPACITY_FLOOR).
+    So delta I is added to each triangle checked on M itself, delta the most negative
+    eigenvalue of M at its control values: a constant over the triangle, it leaves
+    equilibrium inside it, the Kirchhoff shears and the corner forces unchanged and moves m_n
+    on its sides by delta.
+
+    Triangles checked through the scaled tensor (free side) are left as they are: there N_nn
+    can be tiny, so only delta n n^T at the opposite vertex lifts N cheaply, and its
+    equilibrium residual 2 delta |grad lambda|^2 was measured above the re-check's tolerance
+    (6 x 4 m slab with a free edge at "normal": 1.2e-6).
+    Sagging keeps CONE_MARGIN of its capacity, far above delta. Nothing is assumed: the
+    re-check measures the jumps of m_n and the yield ratio of the result."""
+    c = controls.copy()
+    bare = np.flatnonzero(no_top_bars(cap))
+    scaled = scaled_check_sides(sd, cap)
+    plain = bare[scaled[bare] < 0]
+    m = c[plain]
+    low = 0.5 * (m[..., 0] + m[..., 1]) - np.hypot(0.5 * (m[..., 0] - m[..., 1]), m[..., 2])   # (k, 6)
+    delta = np.maximum(-low.min(axis=1, initial=0.0), 0.0)
+    c[plain, :, 0] += delta[:, None]
+    c[plain, :, 1] += delta[:, None]
+
     return c

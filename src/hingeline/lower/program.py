@@ -55,7 +55,7 @@ from scipy import sparse
 from ..geometry.domain import HOGGING_SUPPORT, SUPPORTED, Domain
 from ..model import Model
 from ..model.criterion import normal_capacity
-from .cones import tidy_controls, yield_conditions
+from .cones import lift_into_cones, tidy_controls, yield_conditions
 from .elements import (
     FREE_KINDS,
     PAIR,
@@ -253,15 +253,25 @@ def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -
 
 
 def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles: np.ndarray,
-                      attempt: int = 0) -> LowerBoundSolution:
+                      attempt: int = 0, load_unit: float = 1.0) -> LowerBoundSolution:
     """Best statically admissible field on the slab triangles of the mesh (nodes, triangles),
-    solved with SOLVER_SETTINGS[attempt]."""
+    solved with SOLVER_SETTINGS[attempt].
+
+    load_unit: a load factor of the size of the answer (the upper bound's, when known); the
+    solver's unknown is lambda / load_unit, of order one like the moments. In units where
+    the loads sum to about 1 and the capacities are about 1 (model/scaling.py), lambda itself
+    is the collapse coefficient, 10 to 50: Clarabel's stopping tests, relative to the largest
+    unknown, then left the moments accurate to only about 1e-8 of the capacities (6 m square,
+    1 m opening, no top bars: equilibrium residual 5e-9, against 7e-11 with load_unit). It
+    changes the numerics only: the field is re-checked on its own (fieldcheck.py)."""
     t0 = time.perf_counter()
     tri = slab_triangles(nodes, triangles, domain)
     prob = assemble(model, domain, nodes, tri)
     ncol = prob.lam + 1
     lam_row = sparse.csr_matrix(([-1.0], ([0], [prob.lam])), shape=(1, ncol))   # -lambda <= 0
     A = sparse.vstack([prob.eq, prob.ineq, lam_row, prob.cone]).tocsc()
+    # lambda = load_unit * x[lam]: its column (the last) is multiplied by load_unit.
+    A.data[A.indptr[prob.lam]:] *= load_unit
     b = np.concatenate([prob.eq_rhs, prob.ineq_rhs, [0.0], prob.cone_rhs])
     cones = [clarabel.ZeroConeT(prob.eq.shape[0]), clarabel.NonnegativeConeT(prob.ineq.shape[0] + 1)]
     cones += [clarabel.SecondOrderConeT(3)] * (prob.cone.shape[0] // 3)
@@ -280,5 +290,6 @@ def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles
         return LowerBoundSolution(None, None, A.shape[0], ncol, seconds, word)
     x = np.asarray(sol.x)
     controls = tidy_controls(x[:prob.lam].reshape(len(tri), 6, 3), prob.sides, prob.cap)
+    controls = lift_into_cones(controls, prob.sides, prob.cap)
     field = MomentField(nodes, tri, node_values(controls))
-    return LowerBoundSolution(float(x[prob.lam]), field, A.shape[0], ncol, seconds, word)
+    return LowerBoundSolution(load_unit * float(x[prob.lam]), field, A.shape[0], ncol, seconds, word)
