@@ -99,15 +99,15 @@ def _primary(model: Model, results: Mapping[str, Result], primary: str | None) -
 # --- drawings --------------------------------------------------------------------
 
 
-def _figure_svg(draw, result: Result) -> str:
-    """Data URI of an SVG figure drawn by draw(result, ax=ax)."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
+def _figure_svg(draw, result: Result, footer: str | None = None) -> str:
+    """Data URI of an SVG figure drawn by draw(result, ax=ax), with the caution `footer`
+    (default drawing.CAUTION_FOOTER) and the stamp along its bottom, as in the files."""
+    from .drawing import CAUTION_FOOTER, add_caution_footer, file_figure
 
-    fig = Figure(figsize=(7.0, 5.5), layout="constrained")
-    FigureCanvasAgg(fig)
+    fig = file_figure((7.0, 5.5))
     ax = fig.add_subplot()
     draw(result, ax=ax)
+    add_caution_footer(fig, result, hingeline_version(), footer or CAUTION_FOOTER)
     buf = io.BytesIO()
     fig.savefig(buf, format="svg", dpi=150, metadata={"Creator": f"hingeline {hingeline_version()}",
                                                      "Date": None})
@@ -121,8 +121,10 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
     from . import plots as plot
 
     out = [("Yield-line pattern (plan)", _figure_svg(plot.plot_pattern, result),
-            "Sagging yield lines solid dark red, hogging dash-dot dark blue; line weight grows with "
-            "rotation. Grey shading: deflection of the mechanism (normalised). Supports as in the legend.")]
+            "Sagging yield lines solid dark red, hogging dash-dot dark blue, hogging hinges along supports "
+            "dashed just inside them; line weight grows with rotation. The lines that make 95 % of the "
+            "internal work carry their numbers (table below). Grey shading: w / w_max of the mechanism; "
+            "hatched where the slab rises (w < 0). Supports as in the legend.")]
     deflection = getattr(plot, "plot_deflection", None)
     if callable(deflection):
         out.append(("Deflection of the mechanism (contours)", _figure_svg(deflection, result),
@@ -133,7 +135,10 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
     lb = result.lower_bound
     utilisation = None
     if lb is not None and lb.load_factor is not None and lb.field is not None:
-        utilisation = {"number": len(figures) + 1, "uri": _figure_svg(plot.plot_utilisation, result)}
+        from .drawing import UTILISATION_FOOTER
+
+        utilisation = {"number": len(figures) + 1,
+                       "uri": _figure_svg(plot.plot_utilisation, result, UTILISATION_FOOTER)}
     return figures, utilisation
 
 

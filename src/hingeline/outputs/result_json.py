@@ -241,12 +241,13 @@ def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
 def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
     """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
     from . import plots as plot
-    from .drawing import add_caution_footer, file_figure
+    from .drawing import CAUTION_FOOTER, UTILISATION_FOOTER, add_caution_footer, file_figure
 
     fig = file_figure(PLOT_SIZE)
     ax = fig.add_subplot()
     getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
-    add_caution_footer(fig)
+    add_caution_footer(fig, result, hingeline_version(),
+                       UTILISATION_FOOTER if kind == "utilisation" else CAUTION_FOOTER)
     buf = io.BytesIO()
     metadata_ = {"Creator": f"hingeline {hingeline_version()}"} if fmt in ("png", "pdf") else None
     fig.savefig(buf, format=fmt, dpi=PLOT_DPI, metadata=metadata_)
