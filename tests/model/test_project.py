@@ -91,3 +91,14 @@ def test_clockwise_outline_keeps_the_file_numbers():
     kinds = {o.edge: kind for o, kind in zip(m.slab.origin, m.slab.edges)}
     assert kinds == {1: "simple", 2: "continuous", 3: "free", 4: "simple"}
     assert all(o.reversed for o in m.slab.origin)
+
+
+def test_self_weight_keeps_its_unit_weight():
+    d = base()
+    d["slab"]["thickness"] = 0.2
+    d["load"].append({"type": "self_weight", "unit_weight": 24.0, "factored": False})
+    d["load"].append({"type": "self_weight", "name": "screed weight"})
+    m = parse_model(d)
+    assert m.loads[0].unit_weight is None
+    assert m.loads[1].unit_weight == 24.0 and m.loads[1].value == pytest.approx(24.0 * 0.2)
+    assert m.loads[2].unit_weight == 25.0          # the default, as documented in docs/model-format.md

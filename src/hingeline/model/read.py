@@ -21,7 +21,7 @@ import shapely
 
 from ..errors import ModelError
 from .capacity import parse_capacity
-from .loads import parse_cases, parse_loads
+from .loads import UNIT_WEIGHT, parse_cases, parse_loads
 from .slab import parse_slab
 from .supports import parse_supports, parse_zones
 from .types import RESOLUTIONS, Analysis, LoadCase, Model, Project, Source
@@ -104,6 +104,12 @@ def _parse(data: Any) -> Model:
     cap_t = required_table(data, "capacity", "add a [capacity] table with at least sagging = <kNm/m>")
     capacity = parse_capacity(cap_t, slab.thickness)
     loads = parse_loads(data.get("load"), geo, slab.thickness)
+    # a self-weight keeps its unit weight (kN/m^3), which the record prints beside the kPa
+    raws = list(data.get("load") or ())
+    if len(raws) == len(loads):
+        loads = tuple(replace(ld, unit_weight=float(raw.get("unit_weight", UNIT_WEIGHT)))
+                      if isinstance(raw, dict) and raw.get("type") == "self_weight" else ld
+                      for raw, ld in zip(raws, loads))
 
     if "analysis" in data:
         an_t = data["analysis"]

@@ -83,12 +83,15 @@ class AreaLoad:
         (openings excluded).
     factored: True if scaled by the load factor, False if held constant.
     name: label used in messages and reports ("load 1", ... when not given).
+    unit_weight: kN/m^3 when the load is the slab's self-weight (value = unit_weight x
+        thickness), else None.
     """
 
     value: float
     region: np.ndarray | None = None
     factored: bool = True
     name: str = ""
+    unit_weight: float | None = None
 
 
 @dataclass(frozen=True, eq=False)
