@@ -23,13 +23,14 @@ from hingeline.outputs import result_json
 from hingeline.outputs.contours import plot_deflection, plot_utilisation
 from hingeline.outputs.drawing import (
     CAUTION_FOOTER,
+    UPLIFT_GID,
     UPLIFT_HATCH,
     UTILISATION_FOOTER,
     add_caution_footer,
     file_figure,
 )
 from hingeline.outputs.numbering import LABEL_SHARE, YIELD_LINE_NUMBER_GID, number_lines
-from hingeline.outputs.plan import SUPPORT_HINGE_GID, UPLIFT_GID, plot_pattern
+from hingeline.outputs.plan import SUPPORT_HINGE_GID, plot_pattern
 
 RECTANGLE = """\
 title = "Plot test: {what}"
@@ -100,7 +101,7 @@ def test_hinges_along_continuous_edges_are_drawn_inside_the_edge_and_dashed(notc
         assert outline.contains(mid)
         assert outline.exterior.distance(mid) > 0.004 * size       # clear of the heavy edge line
     # a dash pattern with gaps (survives black-and-white printing), not a solid line
-    offset, dashes = hinges[0].get_linestyle()[0]
+    _, dashes = hinges[0].get_linestyle()[0]
     assert dashes is not None and len(dashes) >= 2 and min(dashes[1::2]) > 0
 
 

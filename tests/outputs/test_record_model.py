@@ -99,19 +99,9 @@ resolution = "coarse"
 """
 
 
-ONE_WAY = """\
-title = "One-way strip"
-[slab]
-outline = [[0.0, 0.0], [4.0, 0.0], [4.0, 2.0], [0.0, 2.0]]
-edges = ["free", "simple", "free", "simple"]
-[capacity]
-sagging = 10.0
-[[load]]
-type = "area"
-value = 6.0
-[analysis]
-resolution = "coarse"
-"""
+# 4 m span between the simply supported edges x = 0 and x = 4, free along y = 0 and y = 2
+ONE_WAY = (SQUARE.replace("Simply supported square", "One-way strip").replace("[4.0, 4.0], [0.0, 4.0]", "[4.0, 2.0], [0.0, 2.0]")
+           .replace('edges = "simple"', 'edges = ["free", "simple", "free", "simple"]'))
 
 
 @pytest.fixture(scope="module")

@@ -259,7 +259,6 @@ def test_plot_pattern_line_weight_grows_with_rotation():
 
 def test_plot_pattern_shades_deflection_with_colour_bar():
     ax = plot_pattern(pyramid_result())
-    fig = ax.figure
     colour_bars = list(ax.child_axes)   # beside the plot, as tall as it
     assert len(colour_bars) == 1
     assert colour_bars[0].get_ylabel() == "w / w_max"   # the shading is w over its largest value

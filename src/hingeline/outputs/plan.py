@@ -37,7 +37,6 @@ from matplotlib.tri import Triangulation
 from ..result import Result
 from .drawing import (
     EDGE_COLOUR,
-    UPLIFT_GID,
     closed_ring,
     colour_bar,
     hatch_uplift,
