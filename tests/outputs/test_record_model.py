@@ -289,3 +289,16 @@ def test_yield_line_table_matches_the_closed_form(one_way):
         assert float(r[3]) == pytest.approx(np.hypot(x1 - x0, y1 - y0), abs=1e-3)
         assert r[5] in ("sagging", "hogging", "hogging, along a support")
     assert works[0] >= works[-1]
+
+
+def test_summary_on_screen_explains_a_status_short_of_solved(one_way):
+    import io
+
+    from hingeline._cli.report import print_summary
+
+    _, result, _ = one_way
+    for status, shown in (("Solved", False), ("AlmostSolved", True)):
+        lb = dataclasses.replace(result.lower_bound, status=status)
+        out = io.StringIO()
+        print_summary(dataclasses.replace(result, lower_bound=lb), [], out=out)
+        assert ("loosened tolerances" in out.getvalue()) is shown
