@@ -5,7 +5,7 @@ kN), the same mechanism and moment field read, in the model's units:
 
     load factor = (M / F) load factor'      points = origin + L x'
     w = w' / F (m per kNm of work)         rotations = rotations' / (F L) (rad)
-    internal and held-load work = (M / F) times theirs; factored-load work = 1 kNm in both
+    internal and held-load work = (M / F) times theirs; scaled-load work = 1 kNm in both
     moments = M m'; residuals of the field: kPa = (M / L^2) p', kN/m = (M / L) V', kN = M P'.
 
 Units: m, kN, kNm/m, kPa; load factors dimensionless.

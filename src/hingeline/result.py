@@ -1,8 +1,8 @@
 """Result stage: what a solve returns, and its JSON form.
 
 Units: lengths m; rotations rad; work kNm. The mechanism is normalised so that
-the factored loads do unit work (1 kNm): deflections w are then in m per kNm of
-factored-load work, positive downward, and the load factor equals
+the scaled loads do unit work (1 kNm): deflections w are then in m per kNm of
+scaled-load work, positive downward, and the load factor equals
 internal work - held-load work.
 """
 from __future__ import annotations
@@ -64,7 +64,7 @@ class Mechanism:
     vertices: (n, 2) in m; triangles: (t, 3) vertex indices, counter-clockwise,
     covering the slab with openings excluded; every active yield line lies on
     triangle edges. w: (n,) deflection, positive downward, normalised so that the
-    factored loads do 1 kNm of work.
+    scaled loads do 1 kNm of work.
     """
 
     vertices: np.ndarray
@@ -101,7 +101,7 @@ class CertificateCheck:
 
     load_factor: float        # recomputed from the mechanism field alone
     internal: float           # kNm
-    factored: float           # kNm, factored-load work
+    factored: float           # kNm, scaled-load work
     held: float               # kNm, held-load work
     max_support_w: float      # largest |w| at a vertex on a supported edge, m/kNm
 

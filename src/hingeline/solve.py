@@ -78,7 +78,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
         warnings.append(
             f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
             f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / abs(lf):.1e}, "
-            f"factored-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
+            f"scaled-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
             "of the largest |w|); the larger value is not reliable, report this model to the developers")
     if mismatch > 1e-8 or support_w > 1e-8:
         warnings.append(

@@ -39,7 +39,7 @@ def test_plot_deflection_contours_labels_and_colour_bar(notched_result):
     assert float(np.max(filled[0].get_array())) > 0.85
     assert len(lines[0].labelTexts) >= 1
     assert all(t.get_text() in {"0.2", "0.4", "0.6", "0.8"} for t in lines[0].labelTexts)
-    colour_bars = [a for a in fig.axes if a is not ax]
+    colour_bars = list(ax.child_axes)   # beside the plot, as tall as it
     assert len(colour_bars) == 1 and colour_bars[0].get_ylabel() == W_RATIO_LABEL
     assert ax.get_aspect() == 1.0
     assert ax.get_xlabel() == "x (m)" and ax.get_ylabel() == "y (m)"
@@ -105,7 +105,7 @@ def test_plot_utilisation_shades_the_yield_ratio_with_a_colour_bar(notched_resul
     assert values.max() > 0.95
     assert values.max() <= lb.check.yield_ratio + 1e-9
     assert values.min() < 0.5                                   # not a uniform wash
-    colour_bars = [a for a in fig.axes if a is not ax]
+    colour_bars = list(ax.child_axes)   # beside the plot, as tall as it
     assert len(colour_bars) == 1 and colour_bars[0].get_ylabel() == UTILISATION_LABEL
     title = ax.get_title()
     assert f"lower bound {lb.load_factor:#.5g}" in title
@@ -120,7 +120,7 @@ def test_plot_utilisation_without_lower_bound_draws_the_plan_and_says_so(notched
     bare = dataclasses.replace(notched_result, lower_bound=None)
     ax = plot_utilisation(bare)
     fig = ax.figure
-    assert isinstance(fig, Figure) and len(fig.axes) == 1      # no colour bar
+    assert isinstance(fig, Figure) and len(fig.axes) == 1 and not ax.child_axes   # no colour bar
     assert not [c for c in ax.collections if isinstance(c, TriMesh)]
     texts = [t for t in ax.texts if NO_LOWER_BOUND_TEXT in t.get_text()]
     assert len(texts) == 1 and texts[0].get_ha() == "center" and texts[0].get_va() == "center"

@@ -6,6 +6,7 @@ import numpy as np
 from hingeline.outputs.drawing import (
     CAUTION_FOOTER,
     FIGURE_SIZE,
+    FOOTER_STRIP,
     add_caution_footer,
     closed_ring,
     file_figure,
@@ -28,15 +29,16 @@ def test_caution_footer_sits_below_the_drawing(notched_result):
     fig = file_figure()
     ax = fig.add_subplot()
     plot_pattern(notched_result, ax=ax)
-    add_caution_footer(fig)
+    add_caution_footer(fig, notched_result)
     fig.canvas.draw()
     renderer = fig.canvas.get_renderer()
     footers = [t for t in fig.texts if t.get_text() == CAUTION_FOOTER]
-    assert len(footers) == 1
-    foot = footers[0].get_window_extent(renderer)
-    strip = 0.03 * fig.bbox.height                                # the strip file_figure leaves, pixels
-    assert foot.y0 >= 0.0 and foot.y1 <= strip
-    assert foot.x0 >= 0.0 and foot.x1 <= fig.bbox.x1
+    assert len(footers) == 1 and len(fig.texts) == 2              # the caution and the stamp
+    strip = FOOTER_STRIP * fig.bbox.height                        # the strip file_figure leaves, pixels
+    for text in fig.texts:
+        foot = text.get_window_extent(renderer)
+        assert foot.y0 >= 0.0 and foot.y1 <= strip
+        assert foot.x0 >= 0.0 and foot.x1 <= fig.bbox.x1
     # the plan, its legend and its colour bar all stay above the strip
     assert min(a.get_tightbbox(renderer).y0 for a in fig.axes) >= strip
 

@@ -167,7 +167,7 @@ def test_report_work_equation_balances(coarse_report):
     assert held > 0                                   # the held load does work on a falling slab
     # the printed work equation: internal = held + load factor x factored
     assert internal == pytest.approx(held + lf * factored, abs=1e-6)
-    # normalisation: the factored loads do 1 kNm of work
+    # normalisation: the scaled loads do 1 kNm of work
     assert factored == pytest.approx(1.0, abs=1e-6)
 
 

@@ -229,11 +229,12 @@ def test_plot_pattern_draws_yield_lines_and_returns_axes():
     ax = plot_pattern(pyramid_result(continuous_bottom=True))
     assert isinstance(ax, Axes)
     yl = _yield_line_collections(ax)
-    assert set(yl) == {"yield lines (sagging)", "yield lines (hogging)"}
+    # the hogging line lies along the continuous edge: drawn as a hinge along a support
+    assert set(yl) == {"yield lines (sagging)", "yield lines (hogging, along supports)"}
     assert len(yl["yield lines (sagging)"].get_segments()) == 4
-    assert len(yl["yield lines (hogging)"].get_segments()) == 1
+    assert len(yl["yield lines (hogging, along supports)"].get_segments()) == 1
     # sagging and hogging differ in colour and in line style
-    sag, hog = yl["yield lines (sagging)"], yl["yield lines (hogging)"]
+    sag, hog = yl["yield lines (sagging)"], yl["yield lines (hogging, along supports)"]
     assert not np.allclose(sag.get_colors()[0], hog.get_colors()[0])
     assert sag.get_linestyle()[0] != hog.get_linestyle()[0]
     assert "load factor = " + f"{pyramid_result(True).load_factor:#.4g}" in ax.get_title()
@@ -250,7 +251,7 @@ def test_plot_pattern_line_weight_grows_with_rotation():
     res = pyramid_result(continuous_bottom=True)
     yl = _yield_line_collections(ax)
     w_sag = yl["yield lines (sagging)"].get_linewidths()[0]
-    w_hog = yl["yield lines (hogging)"].get_linewidths()[0]
+    w_hog = yl["yield lines (hogging, along supports)"].get_linewidths()[0]
     # each diagonal rotates more (w_c / sqrt 2) than the hogging line at the support (w_c / 2)
     assert res.yield_lines.rotation[0] > res.yield_lines.rotation[4]
     assert w_sag > w_hog
@@ -258,10 +259,9 @@ def test_plot_pattern_line_weight_grows_with_rotation():
 
 def test_plot_pattern_shades_deflection_with_colour_bar():
     ax = plot_pattern(pyramid_result())
-    fig = ax.figure
-    colour_bars = [a for a in fig.axes if a is not ax]
+    colour_bars = list(ax.child_axes)   # beside the plot, as tall as it
     assert len(colour_bars) == 1
-    assert colour_bars[0].get_ylabel() == "normalised deflection"
+    assert colour_bars[0].get_ylabel() == "w / w_max"   # the shading is w over its largest value
 
 
 def test_plot_pattern_uses_given_axes():

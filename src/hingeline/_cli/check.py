@@ -57,7 +57,7 @@ def print_check(hc: HandCheck, title: str, pattern_name: str, solved: float | No
             edge = "  (at a bound)" if hc.optimised and min(value - lo, hi - value) <= 1e-6 * (hi - lo) else ""
             p(f"    {name} = {value:.6g}   bounds {lo:g} .. {hi:g}{edge}")
     p(f"load factor by the work equation = {hc.load_factor:.6g}")
-    p("work balance (mechanism scaled so that the factored loads do 1 kNm of work):")
+    p("work balance (mechanism scaled so that the scaled loads do 1 kNm of work):")
     p("  internal work, kNm")
     p(f"    {'hinge':<52} {'length m':>9} {'rotation rad':>13} {'work kNm':>10}")
     for b in hc.boundaries:
@@ -72,10 +72,10 @@ def print_check(hc: HandCheck, title: str, pattern_name: str, solved: float | No
     for name, wk in hc.work_per_load:
         p(f"    {name:<52} {wk:10.5g}")
     if hc.held:
-        p(f"  load factor = (internal - held-load work) / factored-load work = "
+        p(f"  load factor = (internal - held-load work) / scaled-load work = "
           f"({hc.internal:.6g} - {hc.held:.6g}) / 1")
     else:
-        p(f"  load factor = internal work / factored-load work = {hc.internal:.6g} / 1")
+        p(f"  load factor = internal work / scaled-load work = {hc.internal:.6g} / 1")
     if solved is not None:
         pct = 100.0 * (hc.load_factor - solved) / solved
         where = "above" if pct >= 0 else "below"

@@ -55,6 +55,10 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
           f"largest yield ratio {lb.check.yield_ratio:.8f} (<= 1 inside the capacities); {lb.seconds:.2f} s")
     elif lb is not None:
         p(f"lower bound: none ({lb.reason})")
+    if lb is not None and lb.status and lb.status != "Solved":
+        from ..outputs.record_tables import status_words
+
+        p(f"  cone solver {status_words(lb.status)}")
     p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
     p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
       f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")

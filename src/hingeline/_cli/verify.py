@@ -29,7 +29,7 @@ def run(args: argparse.Namespace) -> int:
     c = v.upper_check
     print(f"{model.title or args.model}")
     print(f"upper bound   stored {v.upper:.8g}, re-checked from the mechanism {c.load_factor:.8g} "
-          f"(factored-load work {c.factored:.8g} kNm, largest |w| on supports {c.max_support_w:.1e}): "
+          f"(scaled-load work {c.factored:.8g} kNm, largest |w| on supports {c.max_support_w:.1e}): "
           f"{'agrees' if v.upper_agrees else 'DOES NOT AGREE'}")
     if v.lower is None:
         print("lower bound   none stored")

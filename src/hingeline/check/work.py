@@ -1,7 +1,7 @@
 """Work equation of a hand-drawn pattern: load factor, energy table and the HandCheck result.
 
 Holds `check_pattern`, which evaluates the pattern (optionally after optimising its free
-parameters), scales the mechanism so that the factored loads do 1 kNm of work (as for a
+parameters), scales the mechanism so that the scaled loads do 1 kNm of work (as for a
 solve) and hands it to the upper bound's certificate (`check_mechanism`) for the load
 factor; and the energy table: internal work grouped by region boundary and by supported
 edge (`BoundaryWork`), which sums to the internal work.
@@ -48,7 +48,7 @@ class BoundaryWork:
 
 @dataclass(frozen=True, eq=False)
 class HandCheck:
-    """Work equation of a hand-drawn pattern (mechanism scaled so factored loads do 1 kNm).
+    """Work equation of a hand-drawn pattern (mechanism scaled so scaled loads do 1 kNm).
 
     load_factor: (internal - held) / factored. parameters: values used (optimised when
     optimised is True). internal, held: kNm. work_per_load: (load name, kNm) in model
@@ -165,12 +165,12 @@ def _support_work(model: Model, V, region, lay: Layout, g, edges) -> Iterator[tu
 
 
 def _load_factor(model: Model, pattern: Pattern, values: Mapping[str, float]) -> float:
-    """Load factor of the pattern at `values`; ModelError if the factored loads do no work."""
+    """Load factor of the pattern at `values`; ModelError if the scaled loads do no work."""
     V, T, region, lay = field(model, pattern, values)
     mech = p1_mechanism(V, T, region, lay)
     chk = check_mechanism(model, mech)
     if not chk.factored > 0:
-        raise ModelError(f"{pattern.source}: the factored loads do no positive work on this pattern "
+        raise ModelError(f"{pattern.source}: the scaled loads do no positive work on this pattern "
                          f"(at {fmt_params(values)}); w is positive downward - check the signs of the deflections")
     return chk.load_factor
 
@@ -197,7 +197,7 @@ def check_pattern(model: Model, pattern: Pattern, optimise: bool = True,
     mech = p1_mechanism(V, T, region, lay)
     factored = sum(wk for wk, ld in zip(work_per_load(model, mech), model.loads) if ld.factored)
     if not factored > 0:
-        raise ModelError(f"{pattern.source}: the factored loads do no positive work on this pattern "
+        raise ModelError(f"{pattern.source}: the scaled loads do no positive work on this pattern "
                          "(w is positive downward); check the signs of the deflections")
     mech = Mechanism(mech.vertices, mech.triangles, mech.w / factored)
     chk = check_mechanism(model, mech)

@@ -8,7 +8,7 @@ factored and held loads), so
     s = max over m of (target F_m + H_m) / D_m = 1 / lambda_all,
 
 where lambda_all is the ordinary load factor of the slab under the single load
-set (target x factored loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
+set (target x scaled loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
 scale truly needed: a finer resolution usually raises it.
 
 The same solve gives a lower bound lambda_lower <= lambda_all (lower/program.py); by the

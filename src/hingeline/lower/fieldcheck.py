@@ -202,7 +202,7 @@ def _scaled_ratio(ctrl: np.ndarray, local: np.ndarray, n: np.ndarray, t: np.ndar
 
 
 def check_field(model: Model, domain: Domain, field: MomentField, load_factor: float) -> FieldCheck:
-    """Re-check `field` as statically admissible for `load_factor` times the factored loads
+    """Re-check `field` as statically admissible for `load_factor` times the scaled loads
     plus the held loads of `model`."""
     nodes, tri = field.nodes, field.triangles
     p = nodes[tri]

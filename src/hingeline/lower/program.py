@@ -2,7 +2,7 @@
 equilibrium finite elements (elements.py), its assembly and its solve with Clarabel.
 
 By the lower-bound theorem, a moment field that is in equilibrium with lambda times the
-factored loads (plus the held loads) and nowhere outside the yield criterion proves that
+scaled loads (plus the held loads) and nowhere outside the yield criterion proves that
 the slab carries lambda. We look for the best such field on the triangles of the analysis
 mesh that lie in the slab (elements.py holds the element definitions), as a cone program:
 

@@ -10,6 +10,7 @@ May import: tomllib, shapely, `hingeline.errors` and the other model modules.
 """
 from __future__ import annotations
 
+import hashlib
 import tomllib
 from dataclasses import replace
 from os import PathLike
@@ -20,16 +21,17 @@ import shapely
 
 from ..errors import ModelError
 from .capacity import parse_capacity
-from .loads import parse_cases, parse_loads
+from .loads import UNIT_WEIGHT, parse_cases, parse_loads
 from .slab import parse_slab
 from .supports import parse_supports, parse_zones
-from .types import RESOLUTIONS, Analysis, LoadCase, Model
+from .types import RESOLUTIONS, Analysis, LoadCase, Model, Project, Source
 from .values import Invalid, check_keys, fmt, number, required_table, show, type_name, words
 
 # Allowed keys of each table. To support a new section, add its key here, write its parser
 # in a module of its own, and call the parser from _parse.
-TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall", "case")
+TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall", "case", "project")
 ANALYSIS_KEYS = ("resolution", "mesh_size")
+PROJECT_KEYS = ("job", "reference", "revision", "prepared_by", "checked_by")
 
 
 def read_model(path: str | PathLike[str]) -> Model:
@@ -37,6 +39,7 @@ def read_model(path: str | PathLike[str]) -> Model:
 
     Raises ModelError naming the file when it is missing, unreadable, not UTF-8,
     not valid TOML (with the line/column tomllib reports) or not a valid model.
+    The model keeps the file's name, the SHA-256 of its bytes and its text (`Model.source`).
     """
     p = Path(path)
     try:
@@ -54,7 +57,8 @@ def read_model(path: str | PathLike[str]) -> Model:
         raise ModelError(
             f"model file '{p}' is not UTF-8 text (bad byte at position {exc.start}); save it as UTF-8"
         ) from None
-    return _from_text(text, str(p))
+    model = _from_text(text, str(p))
+    return replace(model, source=Source(name=p.name, sha256=hashlib.sha256(raw).hexdigest(), text=text))
 
 
 def model_from_toml(text: str, source: str = "model") -> Model:
@@ -95,10 +99,17 @@ def _parse(data: Any) -> Model:
     if not isinstance(title, str):
         raise Invalid(f"title must be text in quotes, got {show(title)}")
 
+    project = _parse_project(data.get("project", {}))
     slab, geo = parse_slab(required_table(data, "slab", "add a [slab] table with outline and edges"))
     cap_t = required_table(data, "capacity", "add a [capacity] table with at least sagging = <kNm/m>")
     capacity = parse_capacity(cap_t, slab.thickness)
     loads = parse_loads(data.get("load"), geo, slab.thickness)
+    # a self-weight keeps its unit weight (kN/m^3), which the record prints beside the kPa
+    raws = list(data.get("load") or ())
+    if len(raws) == len(loads):
+        loads = tuple(replace(ld, unit_weight=float(raw.get("unit_weight", UNIT_WEIGHT)))
+                      if isinstance(raw, dict) and raw.get("type") == "self_weight" else ld
+                      for raw, ld in zip(raws, loads))
 
     if "analysis" in data:
         an_t = data["analysis"]
@@ -122,7 +133,18 @@ def _parse(data: Any) -> Model:
                               "support and does no work on the slab; move it onto the slab or leave it out")
     cases = parse_cases(data.get("case", []), loads)
     return Model(slab=slab, capacity=capacity, loads=loads, analysis=analysis, title=title, zones=zones,
-                 supports=supports, cases=cases)
+                 supports=supports, cases=cases, project=project)
+
+
+def _parse_project(t: Any) -> Project:
+    """The optional [project] table: job, reference, revision, prepared_by, checked_by (text)."""
+    if not isinstance(t, dict):
+        raise Invalid(f"project must be a table [project], got {show(t)}")
+    check_keys(t, PROJECT_KEYS, "[project]")
+    for key, value in t.items():
+        if not isinstance(value, str):
+            raise Invalid(f"project.{key} must be text in quotes, got {show(value)}")
+    return Project(**t)
 
 
 def _parse_analysis(t: dict) -> Analysis:

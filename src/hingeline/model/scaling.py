@@ -6,7 +6,7 @@ depends on whether a slab is 6 m or 6 km across, or carries 1 kPa or 1 MPa:
 - lengths: x' = (x - origin) / L, origin the lower-left corner of the outline's bounding
   box and L an eighth of its larger side (ACROSS), so the slab is 8 units across;
 - moments per unit length: m' = m / M, M the largest capacity of the slab or its zones;
-- factored loads: forces divided by F, the total factored force, so they sum to about 1
+- scaled loads: forces divided by F, the total scaled force, so they sum to about 1
   (area loads q' = q L^2 / F, line loads q' = q L / F, point loads P' = P / F);
 - held loads: forces divided by M (q' = q L^2 / M, ...), the moment unit, because held
   loads are not multiplied by the load factor and must keep their ratio to the capacities.
@@ -21,7 +21,7 @@ M and F are rounded to powers of two, so dividing by them is exact in binary flo
 L is not: the mesher (Triangle) was seen to give a different mesh for a model scaled exactly
 by 1/8, so a slab drawn 1,000 times larger must restate to the very same numbers, which
 x / L with L taken from the slab's own size does (to rounding). Then, for the same
-mechanism, load factor = (M / F) load factor', w = w' / F (m per kNm of factored-load
+mechanism, load factor = (M / F) load factor', w = w' / F (m per kNm of scaled-load
 work), rotations = rotations' / (F L), internal and held-load work = (M / F) times theirs.
 
 Units: m, kN, kNm/m, kPa in the model; the restated model is dimensionless.

@@ -9,13 +9,14 @@ May import: numpy, shapely, `.types`, `.values`, `.polygons`.
 """
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
 from shapely.geometry import Polygon
 
 from .polygons import REL_TOL, Geometry, check_strictly_inside, clean_polygon, counter_clockwise, meeting_point
-from .types import EDGE_KINDS, Slab
+from .types import EDGE_KINDS, EdgeOrigin, Slab
 from .values import Invalid, check_keys, edge_label, fmt, frozen, number, points, show, words
 
 SLAB_KEYS = ("outline", "edges", "thickness", "opening")
@@ -61,7 +62,7 @@ def parse_slab(t: dict) -> tuple[Slab, Geometry]:
                 f"expected {n}, got {len(edges_raw)}; give one word per edge "
                 "(edge k runs from vertex k to vertex k+1) or a single word for all edges"
             )
-        outline_user, edges_user, fixity_user = _expand_edges(outline_user, list(edges_raw), tol)
+        outline_user, edges_user, fixity_user, origin_user = _expand_edges(outline_user, list(edges_raw), tol)
     else:
         raise Invalid(
             f"slab.edges must be a list of words or one word, got {show(edges_raw)}; "
@@ -69,9 +70,12 @@ def parse_slab(t: dict) -> tuple[Slab, Geometry]:
         )
     if isinstance(edges_raw, str):
         fixity_user = [1.0] * n
+        origin_user = [EdgeOrigin(k + 1, 0.0, _length(outline_user, k)) for k in range(n)]
     outline, order = counter_clockwise(outline_user)
     edges = tuple(edges_user[k] for k in order)
     fixity = tuple(float(fixity_user[k]) for k in order)
+    flipped = list(order) != sorted(order)
+    origin = tuple(replace(origin_user[k], reversed=flipped) for k in order)
 
     thickness = None
     if "thickness" in t:
@@ -87,6 +91,7 @@ def parse_slab(t: dict) -> tuple[Slab, Geometry]:
         openings=tuple(frozen(o) for o in openings),
         thickness=thickness,
         fixity=fixity,
+        origin=origin,
     )
     return slab, Geometry(outline_poly, opening_polys, tol)
 
@@ -140,11 +145,16 @@ def _edge_kind_and_fixity(t: Any, where: str) -> tuple[str, float]:
     return kind, fixity
 
 
+def _length(outline: np.ndarray, k: int) -> float:
+    """Length (m) of edge k of `outline`, from vertex k to vertex k + 1."""
+    return float(np.hypot(*(outline[(k + 1) % len(outline)] - outline[k])))
+
+
 def _expand_edges(outline: np.ndarray, entries: list, tol: float):
-    """Outline with extra vertices where an edge is split into runs, its edge words and
-    fixities. An entry is a word, {type, fixity}, or {runs = [{type, fixity, to}, ...]} with
+    """Outline with extra vertices where an edge is split into runs, its edge words,
+    fixities and origins (EdgeOrigin: the edge of the file and the run's extent). An entry is a word, {type, fixity}, or {runs = [{type, fixity, to}, ...]} with
     `to` the distance (m) from the edge's first vertex where each run but the last ends."""
-    pts, kinds, fix = [], [], []
+    pts, kinds, fix, origin = [], [], [], []
     n = len(outline)
     for k, entry in enumerate(entries):
         a, b = outline[k], outline[(k + 1) % n]
@@ -154,6 +164,7 @@ def _expand_edges(outline: np.ndarray, entries: list, tol: float):
             kind, f = _edge_kind_and_fixity(entry, where)
             kinds.append(kind)
             fix.append(f)
+            origin.append(EdgeOrigin(k + 1, 0.0, _length(outline, k)))
             continue
         check_keys(entry, EDGE_RUNS_KEYS, where)
         runs = entry["runs"]
@@ -173,6 +184,7 @@ def _expand_edges(outline: np.ndarray, entries: list, tol: float):
             if j == len(runs) - 1:
                 if "to" in run:
                     raise Invalid(f"{rwhere}: the last run goes to the end of the edge; leave out to")
+                origin.append(EdgeOrigin(k + 1, last, length, len(runs)))
                 break
             if "to" not in run:
                 raise Invalid(f"{rwhere} has no to; give the distance (m) from the edge's first vertex "
@@ -181,6 +193,7 @@ def _expand_edges(outline: np.ndarray, entries: list, tol: float):
             if not last + tol < to < length - tol:
                 raise Invalid(f"{rwhere}.to = {fmt(to)} m must lie between {fmt(last)} and the edge length "
                               f"{fmt(length)} m, increasing from run to run")
+            origin.append(EdgeOrigin(k + 1, last, to, len(runs)))
             last = to
             pts.append(a + (b - a) * (to / length))
-    return np.array(pts), kinds, fix
+    return np.array(pts), kinds, fix, origin

@@ -34,6 +34,26 @@ class Slab:
     thickness: float | None = None
     fixity: tuple[float, ...] = ()   # per edge, fraction of the hogging capacity mobilised on
                                      # continuous edges (1.0 each when empty)
+    origin: tuple["EdgeOrigin", ...] = ()   # per edge, where it lies on the outline as written
+                                            # (empty for a Slab built in code)
+
+
+@dataclass(frozen=True)
+class EdgeOrigin:
+    """Where an edge (or a run of one) lies on the outline as written in the model file.
+
+    edge: 1-based number of the outline edge in the file (edge k runs from vertex k to k+1);
+    start, end: distances in m from that edge's first vertex (as written) to the ends of
+    the run; runs: how many runs the file splits that edge into (1: the whole edge);
+    reversed: True when the outline was written clockwise, so that the (counter-clockwise)
+    edge runs from the file's `end` to its `start`.
+    """
+
+    edge: int
+    start: float
+    end: float
+    runs: int = 1
+    reversed: bool = False
 
 
 @dataclass(frozen=True, eq=False)
@@ -65,6 +85,8 @@ class AreaLoad:
         at its value.
     name: label used in messages and reports ("load 1", ... when not given).
     gamma: the partial factor the file gave (1 when none); value already includes it.
+    unit_weight: kN/m^3 when the load is the slab's self-weight (value = gamma x
+        unit_weight x thickness), else None.
     """
 
     value: float
@@ -72,6 +94,7 @@ class AreaLoad:
     factored: bool = True
     name: str = ""
     gamma: float = 1.0
+    unit_weight: float | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -112,9 +135,32 @@ class Analysis:
     mesh_size: float | None = None
 
 
+@dataclass(frozen=True)
+class Project:
+    """The optional [project] table: who and what the calculation is for (free text, "" when
+    not given); printed at the head of the calculation record."""
+
+    job: str = ""
+    reference: str = ""
+    revision: str = ""
+    prepared_by: str = ""
+    checked_by: str = ""
+
+
+@dataclass(frozen=True)
+class Source:
+    """The model file a model was read from: its name (as given), the SHA-256 of its bytes
+    (64 hex digits) and its text. Kept for the calculation record and the drawings' stamp."""
+
+    name: str
+    sha256: str
+    text: str
+
+
 @dataclass(frozen=True, eq=False)
 class Model:
-    """A complete, validated slab model."""
+    """A complete, validated slab model. project: the [project] table; source: the file it
+    was read from (None when built from text or a dict)."""
 
     slab: Slab
     capacity: Capacity
@@ -124,6 +170,8 @@ class Model:
     zones: tuple["Zone", ...] = ()
     supports: tuple["Support", ...] = ()
     cases: tuple["LoadCase", ...] = ()
+    project: Project = field(default_factory=Project)
+    source: Source | None = None
 
 
 @dataclass(frozen=True)

@@ -19,7 +19,17 @@ from matplotlib.colors import ListedColormap
 from matplotlib.tri import Triangulation
 
 from ..result import Result, load_factor_text
-from .drawing import EDGE_COLOUR, closed_ring, new_axes, plan_extent, plot_title
+from .drawing import (
+    EDGE_COLOUR,
+    closed_ring,
+    colour_bar,
+    hatch_uplift,
+    legend_below,
+    new_axes,
+    plan_extent,
+    plot_title,
+    uplift_handle,
+)
 from .plan import (
     draw_openings,
     draw_outline,
@@ -86,7 +96,8 @@ def plot_deflection(result: Result, ax: Axes | None = None) -> Axes:
     result: a hingeline Result. ax: Axes to draw on; a new 7 x 5.5 in figure with an
     Agg canvas is made when None. The normalised deflection w / max(w) (0 on the
     supports, 1 where the slab deflects most; dimensionless) is filled in steps of
-    0.1 from white to slate, with black contour lines labelled every 0.2; outline
+    0.1 from white to slate, with black contour lines labelled every 0.2; where the
+    slab rises (w < 0) it is hatched, with a legend entry; outline
     (edge conditions as in `plot_pattern`), hatched openings, a colour bar
     "w / w_max", a scale bar, equal aspect, axes in m. Never shows.
     """
@@ -95,6 +106,7 @@ def plot_deflection(result: Result, ax: Axes | None = None) -> Axes:
     slab = result.model.slab
     outline, lo, hi, size = plan_extent(result)
     tri, ratio = _w_ratio(result)
+    uplift = False
     if tri is not None:
         extend = "min" if float(np.min(ratio)) < 0.0 else "neither"
         filled = ax.tricontourf(tri, ratio, levels=CONTOUR_LEVELS, cmap=CONTOUR_CMAP, extend=extend, zorder=1)
@@ -103,14 +115,15 @@ def plot_deflection(result: Result, ax: Axes | None = None) -> Axes:
         labelled = [lv for lv in lines.levels if round(lv * 10) % 2 == 0]
         if labelled:
             ax.clabel(lines, levels=labelled, fmt="%.1f", fontsize=7, inline=True)
-        cbar = ax.figure.colorbar(filled, ax=ax, shrink=0.8, pad=0.02, ticks=CONTOUR_LEVELS[::2])
-        cbar.set_label(W_RATIO_LABEL, fontsize=8)
-        cbar.ax.tick_params(labelsize=7)
+        colour_bar(ax, filled, W_RATIO_LABEL, ticks=CONTOUR_LEVELS[::2])
+        uplift = hatch_uplift(ax, tri, ratio)
     draw_openings(ax, slab.openings)
     draw_supports(ax, result.model)
     draw_outline(ax, outline, tuple(slab.edges), size)
     set_plan_limits(ax, lo, hi, size)
     ax.set_title(plot_title(result, "deflected shape of the mechanism, w / w_max"), fontsize=10)
+    if uplift:
+        legend_below(ax, [uplift_handle()])
     return ax
 
 
@@ -225,9 +238,7 @@ def plot_utilisation(result: Result, ax: Axes | None = None):
         # sub-triangle would make the SVG of a fine mesh several MB
         mesh = ax.tripcolor(tri, ratio, shading="gouraud", cmap=UTILISATION_CMAP, vmin=0.0, vmax=1.0,
                             zorder=1, rasterized=True)
-        cbar = ax.figure.colorbar(mesh, ax=ax, shrink=0.8, pad=0.02, ticks=np.linspace(0.0, 1.0, 6))
-        cbar.set_label(UTILISATION_LABEL, fontsize=8)
-        cbar.ax.tick_params(labelsize=7)
+        colour_bar(ax, mesh, UTILISATION_LABEL, ticks=np.linspace(0.0, 1.0, 6))
     else:
         centre = 0.5 * (lo + hi)
         lb = result.lower_bound
@@ -246,6 +257,5 @@ def plot_utilisation(result: Result, ax: Axes | None = None):
     ax.set_title("\n".join(lines), fontsize=10)
     handles = plan_handles(result.model, loads=False)
     if handles:
-        ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, -0.12), ncol=2, fontsize=7,
-                  frameon=False, handlelength=3.2)
+        legend_below(ax, handles)
     return ax

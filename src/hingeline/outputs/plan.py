@@ -5,9 +5,13 @@ Visual language (readable in black and white):
 - continuous edge: heavy line with slanted, hatch-like ticks on the outside;
 - free edge (and every opening edge): thin dashed line; openings are shown hatched;
 - sagging yield line: solid, dark red; hogging yield line: dash-dot, dark blue;
-  line weight grows with the line's rotation;
-- rigid regions shaded light-to-mid grey by the normalised deflection w of the
-  mechanism, with a colour bar;
+  line weight grows with the line's rotation; a hogging hinge along a continuous edge or
+  round a monolithic support is drawn dashed just inside it, so that it does not merge
+  with the heavy edge line (in black-and-white print too);
+- the yield lines that make 95 % of the internal work numbered at their mid-points
+  (numbering.py; the calculation record lists every line by the same numbers);
+- rigid regions shaded light-to-mid grey by w / w_max of the mechanism, with a colour
+  bar; where the slab rises (w < 0) it is hatched, not left white;
 - a scale bar (alternating black and white blocks, length a round number of m)
   below the slab's lower-left corner.
 
@@ -15,10 +19,10 @@ The fixed items (outline with its edge conditions, openings, columns and walls, 
 scale bar and limits, their legend entries) are drawn by `draw_outline`, `draw_openings`,
 `draw_supports`, `draw_zones`, `set_plan_limits` and `plan_handles`, which `contours` reuses.
 
-Units: axes in m; the grey shading is the mechanism's w, shown as a normalised deflection
-(dimensionless, only its shape matters); line widths in points.
-May import: numpy, matplotlib (Figure and the Agg canvas only, never pyplot), `result` and
-`drawing`.
+Units: axes in m; the grey shading is w / w_max of the mechanism (dimensionless, only its
+shape matters); line widths in points.
+May import: numpy, shapely, matplotlib (Figure and the Agg canvas only, never pyplot),
+`result`, `drawing` and `numbering`.
 """
 from __future__ import annotations
 
@@ -31,17 +35,35 @@ from matplotlib.patches import Patch, Polygon, Rectangle
 from matplotlib.tri import Triangulation
 
 from ..result import Result
-from .drawing import EDGE_COLOUR, closed_ring, new_axes, plan_extent, plot_title
+from .drawing import (
+    EDGE_COLOUR,
+    closed_ring,
+    colour_bar,
+    hatch_uplift,
+    legend_below,
+    new_axes,
+    plan_extent,
+    plot_title,
+    uplift_handle,
+)
+from .numbering import draw_numbers
 
 SAGGING_COLOUR = "#8c1c13"
 HOGGING_COLOUR = "#1b3f8b"
 SAGGING_STYLE = "solid"
 HOGGING_STYLE = (0, (7, 2, 1.5, 2))  # dash-dot
+SUPPORT_HINGE_STYLE = (0, (3, 2.5))   # dashed with open gaps: the edge line must not show through
 MIN_LINE_WIDTH = 0.8   # points, for the smallest rotation
 MAX_LINE_WIDTH = 3.2   # points, for the largest rotation
 
-#: Label of the colour bar.
-DEFLECTION_LABEL = "normalised deflection"
+#: Label of the colour bar: the shading is the deflection over its largest value.
+DEFLECTION_LABEL = "w / w_max"
+
+#: Gid of the hogging hinges along supports (drawn just inside the support's edge).
+SUPPORT_HINGE_GID = "hinges along supports"
+
+#: How far inside the slab a hinge along a support is drawn, as a fraction of the slab's size.
+SUPPORT_HINGE_OFFSET = 0.012
 
 # light grey scale: white for w = 0 to mid grey for the largest w
 DEFLECTION_CMAP = ListedColormap(np.linspace(1.0, 0.55, 256)[:, None].repeat(3, axis=1), name="hingeline_w")
@@ -213,7 +235,28 @@ def _line_widths(rotation: np.ndarray, r_max: float) -> np.ndarray:
     return MIN_LINE_WIDTH + (MAX_LINE_WIDTH - MIN_LINE_WIDTH) * np.sqrt(frac)
 
 
-def _draw_yield_lines(ax: Axes, result: Result) -> None:
+def _inside(result: Result, segs: np.ndarray, size: float) -> np.ndarray:
+    """The segments (k, 2, 2) moved SUPPORT_HINGE_OFFSET * size sideways, onto the side where
+    the slab is (not a support, an opening or outside the outline)."""
+    from shapely.geometry import Point, Polygon
+    from shapely.ops import unary_union
+
+    model = result.model
+    slab = Polygon(model.slab.outline, [np.asarray(o) for o in model.slab.openings])
+    if model.supports:
+        slab = slab.difference(unary_union([sp.polygon for sp in model.supports]))
+    out = []
+    for a, b in segs:
+        d = b - a
+        L = float(np.hypot(*d)) or 1.0
+        n = np.array([-d[1], d[0]]) / L * SUPPORT_HINGE_OFFSET * size
+        mid = 0.5 * (a + b)
+        side = n if slab.contains(Point(mid + n)) else -n
+        out.append(np.array([a + side, b + side]))
+    return np.array(out).reshape(-1, 2, 2)
+
+
+def _draw_yield_lines(ax: Axes, result: Result, size: float) -> None:
     yl = result.yield_lines
     if len(yl) == 0:
         return
@@ -221,11 +264,17 @@ def _draw_yield_lines(ax: Axes, result: Result) -> None:
     end = np.asarray(yl.end, dtype=float).reshape(-1, 2)
     rot = np.asarray(yl.rotation, dtype=float)
     sag = np.asarray(yl.sagging, dtype=bool)
+    hinge = ~sag & np.asarray(yl.at_support, dtype=bool)
     widths = _line_widths(rot, float(np.max(rot)) if rot.size else 0.0)
     segs = np.stack([start, end], axis=1)
+    if np.any(hinge):
+        ax.add_collection(LineCollection(
+            list(_inside(result, segs[hinge], size)), colors=HOGGING_COLOUR, linewidths=widths[hinge],
+            linestyles=SUPPORT_HINGE_STYLE, capstyle="butt", zorder=5, label="yield lines (hogging, along supports)",
+            gid=SUPPORT_HINGE_GID))
     for mask, colour, style, label in (
         (sag, SAGGING_COLOUR, SAGGING_STYLE, "yield lines (sagging)"),
-        (~sag, HOGGING_COLOUR, HOGGING_STYLE, "yield lines (hogging)"),
+        (~sag & ~hinge, HOGGING_COLOUR, HOGGING_STYLE, "yield lines (hogging)"),
     ):
         if np.any(mask):
             ax.add_collection(LineCollection(
@@ -242,25 +291,30 @@ def _draw_deflection(ax: Axes, result: Result):
     if len(tris) == 0 or len(verts) == 0:
         return None
     tri = Triangulation(verts[:, 0], verts[:, 1], tris)
-    w_lo = min(0.0, float(np.min(w)))
-    w_hi = float(np.max(w))
-    if w_hi <= w_lo:
-        w_hi = w_lo + 1.0
-    return ax.tripcolor(tri, w, shading="gouraud", cmap=DEFLECTION_CMAP, vmin=w_lo, vmax=w_hi,
-                        zorder=1, rasterized=True)
+    w_max = float(np.max(w))
+    ratio = w / w_max if w_max > 0 else np.zeros_like(w)
+    mesh = ax.tripcolor(tri, np.clip(ratio, 0.0, None), shading="gouraud", cmap=DEFLECTION_CMAP, vmin=0.0,
+                        vmax=1.0, zorder=1, rasterized=True)
+    return mesh, hatch_uplift(ax, tri, ratio)
 
 
-def _legend_handles(result: Result) -> list:
+def _legend_handles(result: Result, uplift: bool) -> list:
     handles = []
     sag = np.asarray(result.yield_lines.sagging, dtype=bool)
+    hinge = ~sag & np.asarray(result.yield_lines.at_support, dtype=bool)
     if np.any(sag):
         handles.append(Line2D([], [], color=SAGGING_COLOUR, linestyle=SAGGING_STYLE, linewidth=2.0,
                               label="sagging yield line (bottom bars yield)"))
-    if np.any(~sag):
+    if np.any(~sag & ~hinge):
         handles.append(Line2D([], [], color=HOGGING_COLOUR, linestyle=HOGGING_STYLE, linewidth=2.0,
                               label="hogging yield line (top bars yield)"))
+    if np.any(hinge):
+        handles.append(Line2D([], [], color=HOGGING_COLOUR, linestyle=SUPPORT_HINGE_STYLE, linewidth=2.0,
+                              label="hogging hinge along a support (drawn just inside it)"))
     handles += plan_handles(result.model)
-    handles.append(Line2D([], [], color="none", label="line weight grows with rotation"))
+    if uplift:
+        handles.append(uplift_handle())
+    handles.append(Line2D([], [], color="none", label="line weight grows with rotation; n: line number"))
     return handles
 
 
@@ -328,22 +382,20 @@ def plot_pattern(result: Result, ax: Axes | None = None) -> Axes:
     slab = result.model.slab
     outline, lo, hi, size = plan_extent(result)
 
-    mappable = _draw_deflection(ax, result)
+    mappable, uplift = _draw_deflection(ax, result) or (None, False)
     draw_openings(ax, slab.openings)
     draw_supports(ax, result.model)
     draw_zones(ax, result.model)
     _draw_loads(ax, result.model)
     draw_outline(ax, outline, tuple(slab.edges), size)
-    _draw_yield_lines(ax, result)
+    _draw_yield_lines(ax, result, size)
+    draw_numbers(ax, result)
 
     set_plan_limits(ax, lo, hi, size)
 
     if mappable is not None:
-        cbar = ax.figure.colorbar(mappable, ax=ax, shrink=0.8, pad=0.02)
-        cbar.set_label(DEFLECTION_LABEL, fontsize=8)
-        cbar.ax.tick_params(labelsize=7)
+        colour_bar(ax, mappable, DEFLECTION_LABEL, ticks=np.linspace(0.0, 1.0, 6))
 
     ax.set_title(plot_title(result, ""), fontsize=10)
-    ax.legend(handles=_legend_handles(result), loc="upper center", bbox_to_anchor=(0.5, -0.12),
-              ncol=2, fontsize=7, frameon=False, handlelength=3.2)
+    legend_below(ax, _legend_handles(result, uplift))
     return ax

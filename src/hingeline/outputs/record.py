@@ -1,10 +1,13 @@
 """Calculation record: one self-contained HTML page a checking engineer can follow.
 
 `build_report(model, results_by_resolution)` turns the solves of one model at
-several mesh resolutions into the text of an HTML page: model summary, method
+several mesh resolutions into the text of an HTML page: the project (job, reference,
+revision, prepared and checked by) and the model file's name and SHA-256 at the head,
+model summary, method
 and assumptions, the load factor in words, the energy balance, resolution and
 convergence, warnings and the certificate check, the lower bound and its
-re-check, the cautions and the drawings.
+re-check, the numbered yield lines, the cautions, the drawings, and in an appendix the
+model file's text as read (escaped).
 The page is rendered by Jinja2 from templates/record.html.j2 (with autoescaping,
 so user text such as titles and load names is escaped); this module and its two
 helpers (record_model for section 1, record_tables for sections 4 to 7) only
@@ -35,7 +38,7 @@ import numpy as np
 
 from ..model import RESOLUTIONS, Model
 from ..result import CAUTIONS, Result, load_factor_text
-from .record_model import model_tables
+from .record_model import method_items, model_tables
 from .record_tables import (
     cell,
     certificate_table,
@@ -46,6 +49,7 @@ from .record_tables import (
     lower_bound_table,
     ordered,
     work_tables,
+    yield_line_table,
 )
 from .result_json import hingeline_version
 
@@ -99,15 +103,15 @@ def _primary(model: Model, results: Mapping[str, Result], primary: str | None) -
 # --- drawings --------------------------------------------------------------------
 
 
-def _figure_svg(draw, result: Result) -> str:
-    """Data URI of an SVG figure drawn by draw(result, ax=ax)."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
+def _figure_svg(draw, result: Result, footer: str | None = None) -> str:
+    """Data URI of an SVG figure drawn by draw(result, ax=ax), with the caution `footer`
+    (default drawing.CAUTION_FOOTER) and the stamp along its bottom, as in the files."""
+    from .drawing import CAUTION_FOOTER, add_caution_footer, file_figure
 
-    fig = Figure(figsize=(7.0, 5.5), layout="constrained")
-    FigureCanvasAgg(fig)
+    fig = file_figure((7.0, 5.5))
     ax = fig.add_subplot()
     draw(result, ax=ax)
+    add_caution_footer(fig, result, hingeline_version(), footer or CAUTION_FOOTER)
     buf = io.BytesIO()
     fig.savefig(buf, format="svg", dpi=150, metadata={"Creator": f"hingeline {hingeline_version()}",
                                                      "Date": None})
@@ -121,23 +125,41 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
     from . import plots as plot
 
     out = [("Yield-line pattern (plan)", _figure_svg(plot.plot_pattern, result),
-            "Sagging yield lines solid dark red, hogging dash-dot dark blue; line weight grows with "
-            "rotation. Grey shading: deflection of the mechanism (normalised). Supports as in the legend.")]
+            "Sagging yield lines solid dark red, hogging dash-dot dark blue, hogging hinges along supports "
+            "dashed just inside them; line weight grows with rotation. The lines that make 95 % of the "
+            "internal work carry their numbers (table below). Grey shading: w / w_max of the mechanism; "
+            "hatched where the slab rises (w < 0). Supports as in the legend.")]
     deflection = getattr(plot, "plot_deflection", None)
     if callable(deflection):
         out.append(("Deflection of the mechanism (contours)", _figure_svg(deflection, result),
-                    "Deflected shape of the collapse mechanism, normalised so that the factored loads "
+                    "Deflected shape of the collapse mechanism, normalised so that the scaled loads "
                     "do 1 kNm of work; only its shape matters, not its size."))
     figures = [{"number": k + 1, "title": title, "uri": uri, "caption": caption}
                for k, (title, uri, caption) in enumerate(out)]
     lb = result.lower_bound
     utilisation = None
     if lb is not None and lb.load_factor is not None and lb.field is not None:
-        utilisation = {"number": len(figures) + 1, "uri": _figure_svg(plot.plot_utilisation, result)}
+        from .drawing import UTILISATION_FOOTER
+
+        utilisation = {"number": len(figures) + 1,
+                       "uri": _figure_svg(plot.plot_utilisation, result, UTILISATION_FOOTER)}
     return figures, utilisation
 
 
 # --- page ----------------------------------------------------------------------------
+
+
+_PROJECT_LABELS = (("job", "Job"), ("reference", "Reference"), ("revision", "Revision"),
+                   ("prepared_by", "Prepared by"), ("checked_by", "Checked by"))
+
+
+def _head(model: Model) -> dict:
+    """The project's fields given (label, text), and the model file (name, sha256, text) or None."""
+    project = [(label, getattr(model.project, key)) for key, label in _PROJECT_LABELS
+               if getattr(model.project, key)]
+    src = model.source
+    source = None if src is None else {"name": src.name, "sha256": src.sha256, "text": src.text}
+    return {"project": project, "source": source}
 
 
 def page_data(model: Model, results: Mapping[str, Result], primary: str | None = None,
@@ -160,7 +182,7 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
     yl = res.yield_lines
     n_sag = int(np.sum(np.asarray(yl.sagging, bool)))
     figures, utilisation = _drawings(res)
-    return {
+    return _head(model) | {
         "title": model.title or "Untitled slab",
         "version": hingeline_version(),
         "generated": generated or datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
@@ -174,6 +196,8 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
         "better": None if better is None else {"load_factor": load_factor_text(better['load_factor'], 4),
                                                 "label": better["label"]},
         "model": model_tables(model),
+        "method": method_items(model),
+        "yield_lines": yield_line_table(res),
         "mechanism": {"lines": len(yl), "sagging": n_sag, "hogging": len(yl) - n_sag,
                       "at_support": int(np.sum(np.asarray(yl.at_support, bool)))},
         "figures": figures,

@@ -2,13 +2,14 @@
 
 `energy_balance`, `convergence_rows` and `lower_bound_summary` return the numbers as
 plain Python values (for tests and other callers); `work_tables`, `convergence_table`,
-`certificate_table` and `lower_bound_table` turn them into the page data the templates
-print: dicts and lists of already-formatted strings, booleans for the template's
+`certificate_table`, `lower_bound_table` and `yield_line_table` turn them into the page data
+the templates print (`status_words` puts the cone solver's status in words): dicts and lists of already-formatted strings, booleans for the template's
 choices, and `cell`s for numbers that carry their full-precision value in data-value.
 No HTML is written here.
 
 Units: lengths m, moments kNm/m, area loads kPa, work kNm, time s.
-May import: `model`, `result`, `lower`, `upper.certificate` and `outputs.result_json`.
+May import: `model`, `result`, `lower`, `upper.certificate` and `outputs.result_json`,
+`outputs.numbering` and `outputs.record_model`.
 """
 from __future__ import annotations
 
@@ -21,12 +22,34 @@ from ..lower import EQUILIBRIUM_RTOL
 from ..model import RESOLUTIONS, Model
 from ..result import LOAD_FACTOR_DIGITS, Result, load_factor_text
 from ..upper.certificate import work_per_load
+from .numbering import LABEL_SHARE, line_rows
+from .record_model import load_unit, xy
 from .result_json import CERTIFICATE_RTOL, certificate_agrees
 
 # Number formats of the re-check's quantities (fieldcheck.FieldCheck); units and meanings
 # are words of the page and live in the template.
 _CHECK_FORMATS = {"yield_ratio": ".9f", "yield_ratio_points": ".9f"}
 _CHECK_FORMAT = ".3e"
+
+# The cone solver's (Clarabel's) status words, in words a checking engineer can act on. Every
+# field is re-checked independently (lower/fieldcheck.py) whatever the status.
+_RECHECK = " The field was re-checked independently, so the lower bound stands only if the re-check passes."
+_STATUS_WORDS = {
+    "Solved": "the solver met its tolerances on equilibrium, the yield criterion and optimality.",
+    "AlmostSolved": "the solver met only loosened tolerances (it could not reach the full ones)." + _RECHECK,
+    "MaxIterations": "the solver reached its iteration limit before meeting its tolerances." + _RECHECK,
+    "MaxTime": "the solver reached its time limit before meeting its tolerances." + _RECHECK,
+    "InsufficientProgress": "the solver stopped making progress before meeting its tolerances." + _RECHECK,
+    "NumericalError": "the solver stopped on a numerical difficulty (an ill-conditioned system)." + _RECHECK,
+    "PrimalInfeasible": "the solver found no field in equilibrium inside the yield criterion for any "
+                        "load factor, so there is no field to re-check.",
+    "AlmostPrimalInfeasible": "the solver found, to loosened tolerances, that no field in equilibrium inside "
+                              "the yield criterion exists, so there is no field to re-check.",
+    "DualInfeasible": "the solver found the load factor unbounded (no mechanism limits it), so there is no "
+                      "field to re-check; the model is likely wrong.",
+    "AlmostDualInfeasible": "the solver found, to loosened tolerances, the load factor unbounded, so there is "
+                            "no field to re-check.",
+}
 
 
 def cell(value: float, fmt: str = ".6g") -> dict:
@@ -38,6 +61,14 @@ def ordered(labels) -> list[str]:
     """Resolution labels coarse -> fine, any other label (explicit mesh size) last."""
     rank = {r: i for i, r in enumerate(RESOLUTIONS)}
     return sorted(labels, key=lambda k: (rank.get(k, len(RESOLUTIONS)), k))
+
+
+def status_words(status: str) -> str:
+    """The cone solver's status word and what it means for the lower bound, in a sentence."""
+    meaning = _STATUS_WORDS.get(str(status))
+    if meaning is None:
+        meaning = "the solver stopped without meeting its tolerances." + _RECHECK
+    return f"{status}: {meaning}"
 
 
 # --- numbers -------------------------------------------------------------------
@@ -64,7 +95,7 @@ def energy_balance(model: Model, result: Result) -> dict:
     ]
     groups = [(label, int(m.sum()), float(dis[m].sum())) for label, m in groups]
     works = work_per_load(model, result.mechanism)
-    loads = [{"name": ld.name, "value": float(ld.value), "factored": bool(ld.factored),
+    loads = [{"name": ld.name, "value": float(ld.value), "unit": load_unit(ld), "factored": bool(ld.factored),
               "region": getattr(ld, "region", None) is not None, "work": float(w)}
              for ld, w in zip(model.loads, works)]
     factored = sum(d["work"] for d in loads if d["factored"])
@@ -153,7 +184,7 @@ def work_tables(bal: dict) -> dict:
                    for label, count, work in bal["groups"]],
         "internal_sum": cell(bal["internal_sum"], ".9g"),
         "mismatch": {"sum": f"{bal['internal_sum']:.9g}", "internal": f"{bal['internal']:.9g}"} if mismatch else None,
-        "loads": [{"name": d["name"], "value": f"{d['value']:.3f}", "factored": d["factored"],
+        "loads": [{"name": d["name"], "value": f"{d['value']:.3f} {d['unit']}", "factored": d["factored"],
                    "work": cell(d["work"], ".9g")} for d in bal["loads"]],
         "factored": cell(bal["factored"], ".9g"),
         "held": cell(bal["held"], ".9g"),
@@ -199,7 +230,7 @@ def lower_bound_table(res: Result) -> dict:
     lower, gap, solved, chk = lb["load_factor"], lb["gap"], lb["solved"], lb["check"]
     out = {"computed": lb["computed"], "upper": load_factor_text(lb['upper']),
            "held": any(not ld.factored for ld in res.model.loads),
-           "why_none": lb["reason"] or lb["status"], "lower": None, "check": None}
+           "why_none": lb["reason"] or lb["status"], "lower": None, "check": None, "status_text": ""}
     if lower is not None:
         out["lower"] = {
             "value": repr(lower), "text": load_factor_text(lower), "gap": repr(gap), "gap_text": f"{100.0 * gap:.1f}",
@@ -217,5 +248,20 @@ def lower_bound_table(res: Result) -> dict:
         out["check"] = {
             "rows": [{"name": name, "cell": cell(value, _CHECK_FORMATS.get(name, _CHECK_FORMAT))}
                      for name, value in chk.items()],
-            "verdict": verdict, "status": lb["status"], "seconds": f"{lb['seconds']:.2f}"}
+            "verdict": verdict, "status": lb["status"], "status_text": status_words(lb["status"]),
+            "seconds": f"{lb['seconds']:.2f}"}
+    if lb["computed"] and lb["status"]:
+        out["status_text"] = status_words(lb["status"])
     return out
+
+
+def yield_line_table(res: Result) -> dict:
+    """The yield lines by number (numbering.py; the plan labels the same numbers): from, to
+    (m), length (m), rotation (rad), sense, work (kNm) and share of the internal work (%)."""
+    rows = line_rows(res)
+    return {"share": f"{100 * LABEL_SHARE:g}", "labelled": sum(r["labelled"] for r in rows),
+            "rows": [{"number": r["number"], "start": xy(r["start"]), "end": xy(r["end"]),
+                      "length": f"{r['length']:.3f}", "rotation": cell(r["rotation"], ".4e"),
+                      "sense": r["sense"] + (", along a support" if r["at_support"] else ""),
+                      "work": cell(r["work"], ".9g"), "share": cell(100 * r["share"], ".2f"),
+                      "labelled": r["labelled"]} for r in rows]}

@@ -10,7 +10,7 @@ while rendering leaves nothing behind. The fields of result.json are described
 by the JSON Schema docs/result.schema.json.
 
 Units follow result.py: lengths m, moments kNm/m, rotations rad, work kNm,
-deflections w in m per kNm of factored-load work (positive downward).
+deflections w in m per kNm of scaled-load work (positive downward).
 """
 from __future__ import annotations
 
@@ -53,8 +53,8 @@ UNITS = {
     "area_load": "kPa",
     "rotation": "rad",
     "work": "kNm",
-    "w": "m per kNm of factored-load work (mechanism normalised so the factored loads do 1 kNm of work)",
-    "load_factor": "dimensionless (multiplies the factored loads; held loads stay at their value)",
+    "w": "m per kNm of scaled-load work (mechanism normalised so the scaled loads do 1 kNm of work)",
+    "load_factor": "dimensionless (multiplies the scaled loads; held loads stay at their value)",
 }
 
 
@@ -242,12 +242,13 @@ def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
 def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
     """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
     from . import plots as plot
-    from .drawing import add_caution_footer, file_figure
+    from .drawing import CAUTION_FOOTER, UTILISATION_FOOTER, add_caution_footer, file_figure
 
     fig = file_figure(PLOT_SIZE)
     ax = fig.add_subplot()
     getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
-    add_caution_footer(fig)
+    add_caution_footer(fig, result, hingeline_version(),
+                       UTILISATION_FOOTER if kind == "utilisation" else CAUTION_FOOTER)
     buf = io.BytesIO()
     metadata_ = {"Creator": f"hingeline {hingeline_version()}"} if fmt in ("png", "pdf") else None
     fig.savefig(buf, format=fmt, dpi=PLOT_DPI, metadata=metadata_)

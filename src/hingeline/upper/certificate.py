@@ -12,7 +12,7 @@ recomputes the work equation without any of the solver's lines or coefficients:
   triangle clipped to the load's polygon, the linear w integrated over the piece);
 - supports: |w| on supported edges and faces and at the bearing points of pinned columns
   (their centres: a pinned column holds the slab there only, its footprint is slab);
-- load factor = (internal - held-load work) / factored-load work.
+- load factor = (internal - held-load work) / scaled-load work.
 
 Units: m, kNm/m, kPa; work in kNm. w positive downward; theta > 0 sagging.
 """
@@ -246,7 +246,7 @@ def certificate_agrees(load_factor: float, check: CertificateCheck, w_max: float
                        rtol: float = CERTIFICATE_RTOL) -> bool:
     """The one test of agreement between a load factor and the re-check of its mechanism
     (w_max: largest |w| of the mechanism, m/kNm): the re-checked load factor equals it within
-    rtol of its size, the factored loads do unit work on the field within rtol, and |w| on
+    rtol of its size, the scaled loads do unit work on the field within rtol, and |w| on
     the supports is at most rtol times w_max. All three are ratios, so no unit enters."""
     lf, chk = float(load_factor), check
     if not (math.isfinite(lf) and math.isfinite(chk.load_factor) and math.isfinite(chk.factored)):

@@ -5,7 +5,7 @@ Variables: for each line i in the LP, theta_i+ >= 0 (sagging) and theta_i- >= 0
     minimise   sum_i (c_i+ - g_i) theta_i+ + (c_i- + g_i) theta_i-
     subject to sum over lines at node j of theta_i e_i = 0   (2 rows per node; e_i the
                unit vector along line i pointing away from j: rotation compatibility)
-               sum_i f_i theta_i = 1                          (factored-load work, kNm)
+               sum_i f_i theta_i = 1                          (scaled-load work, kNm)
 with c the plastic costs (kNm/rad), f and g the work coefficients (kN) of the
 factored and held loads. The optimum is the load factor.
 
@@ -128,7 +128,7 @@ def _run(h):
             "held-load work exceeds its internal work; reduce the held loads or add strength/supports")
     if status == highspy.HighsModelStatus.kInfeasible:
         raise SolverError("the linear program is infeasible: no mechanism does positive work "
-                          "under the factored loads (check the loads)")
+                          "under the scaled loads (check the loads)")
     if status != highspy.HighsModelStatus.kOptimal:
         raise SolverError(f"HiGHS stopped with status '{h.modelStatusToString(status)}'")
     return h.getSolution(), h.getInfo().objective_function_value

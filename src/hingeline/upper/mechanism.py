@@ -12,7 +12,7 @@ applying the slope jump of every hinge crossed:
 The deflections at the vertices of the slab's triangles form the certificate
 (result.Mechanism) that certificate.py re-checks on its own.
 
-Units: m; w in m per kNm of factored-load work, positive downward.
+Units: m; w in m per kNm of scaled-load work, positive downward.
 """
 from __future__ import annotations
 
