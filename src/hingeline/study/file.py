@@ -107,9 +107,12 @@ def read_study(path: str | Path) -> Study:
 
 def _parse(data: dict, path: Path) -> Study:
     check_keys(data, STUDY_KEYS, "the top level of the study file")
-    if "model" not in data or not isinstance(data["model"], str) or not data["model"].strip():
+    if "model" not in data:
+        raise Invalid('model is missing; name the base model file, e.g. model = "floor.toml" '
+                      "(relative to the study file)")
+    if not isinstance(data["model"], str) or not data["model"].strip():
         raise Invalid(f"model must name the base model file in quotes (relative to the study file), "
-                      f"got {show(data.get('model', 'nothing'))}")
+                      f"got {show(data['model'])}")
     model_path = path.parent / data["model"]
     base = _read_base(model_path)
     model = parse_model(base, str(model_path))

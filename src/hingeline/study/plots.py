@@ -25,6 +25,7 @@ import numpy as np
 from matplotlib.collections import PatchCollection
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
+from matplotlib.patches import Polygon as MplPolygon
 
 from ..outputs.drawing import add_caution_footer, closed_ring, file_figure
 from ..outputs.plan import draw_openings, draw_outline, draw_supports
@@ -101,13 +102,15 @@ def map_png(study, plan, rows: list[Row]) -> bytes:
     axes = fig.subplots(nrows, ncols, squeeze=False).ravel()
     mesh = None
     for ax, (sc, vals), z in zip(axes, keys, grids):
+        # Cells are a step wide; clip them to the slab so that none seems to lie beyond its edge.
+        slab = MplPolygon(np.asarray(study.model.slab.outline), closed=True, transform=ax.transData)
         mesh = ax.pcolormesh(_cell_edges(xs, step), _cell_edges(ys, step), np.ma.masked_invalid(z),
-                             cmap="viridis", vmin=vmin, vmax=vmax, zorder=1)
+                             cmap="viridis", vmin=vmin, vmax=vmax, zorder=1, clip_path=slab)
         ok = np.argwhere(z >= target)
         if len(ok):
             cells = [Rectangle((xs[j] - step / 2, ys[i] - step / 2), step, step) for i, j in ok]
             ax.add_collection(PatchCollection(cells, facecolor="none", edgecolor="white", hatch="//",
-                                              linewidth=0.0, zorder=2))
+                                              linewidth=0.0, zorder=2, clip_path=slab))
         zm = np.ma.masked_invalid(z)
         if min(z.shape) >= 2 and zm.count() and zm.min() < target < zm.max():
             ax.contour(xs, ys, zm, levels=[target], colors="red", linewidths=2.0, zorder=3)
@@ -175,7 +178,7 @@ def line_plots(study, rows: list[Row]) -> dict[str, bytes]:
             line, = ax.plot(values, pts[:, 0], "o-", label=name or "load factor")
             if np.isfinite(pts[:, 1]).any():
                 ax.plot(values, pts[:, 1], "s--", color=line.get_color(), mfc="none", lw=1.0)
-        ax.axhline(study.target, color="red", lw=1.0, ls=":")
+        ax.axhline(study.target, color="red", lw=1.0, ls=":", label=f"target {study.target:g}")
         ax.set_xlabel(label)
         ax.set_ylabel("load factor" + (" (lowest over positions)" if moving else ""))
         ax.set_title("load factor (solid, upper bound) and lower bound (dashed)", fontsize=9)

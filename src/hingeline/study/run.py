@@ -32,6 +32,8 @@ from .variants import Plan, Variant
 log = logging.getLogger(__name__)
 
 SOLVED = "solved"
+#: How long to wait for a Dask scheduler to answer before giving up.
+CONNECT_TIMEOUT = "10s"
 CLUSTER_HINT = "install the cluster extra: pip install 'hingeline[cluster]'"
 
 
@@ -109,7 +111,7 @@ def connect(address: str):
     except ImportError:
         raise StudyError(f"--scheduler needs Dask, which is not installed; {CLUSTER_HINT}") from None
     try:
-        return Client(address, timeout="10s")
+        return Client(address, timeout=CONNECT_TIMEOUT)
     except (OSError, TimeoutError, ValueError) as exc:
         raise StudyError(f"--scheduler {address}: cannot connect ({exc}); check the address "
                          "(e.g. tcp://host:8786) and that the scheduler is running") from None
