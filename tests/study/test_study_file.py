@@ -172,3 +172,14 @@ def test_toml_round_trip_and_fingerprint():
 def test_study_error_is_a_hingeline_error():
     from hingeline.errors import HingelineError
     assert issubclass(StudyError, HingelineError)
+
+
+def test_example_study_reads():
+    """The example study in examples/studies/ names its model beside it and builds variants."""
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[2] / "examples" / "studies" / "lab_floor_duct.toml"
+    study = read_study(path)
+    plan = build_variants(study)
+    assert study.move.opening == 2 and study.move.scale == (1.0, 1.5)
+    assert len(plan.variants) > 0 and len(plan.skipped) > 0
+    assert {v.values for v in plan.variants} == {(4.5,), (7.5,)}
