@@ -9,7 +9,8 @@ It solves the study twice from scratch, with 1 and with 2 local worker processes
 prints one table: total wall time of each (solving, storing each variant and writing
 study.csv, map.png and study.html), the speed-up, and a check of a few variants: each one's
 model file solved alone in this process must give the load factor in study.csv to 1e-6.
-Only prints; nothing is asserted about time.
+Only prints; nothing is asserted about time. The load average before and after is printed
+too: on a machine busy with other work the speed-up says little.
 
     python benchmarks/study.py                      # coarse resolution, checks 4 variants
     python benchmarks/study.py --resolution normal --check 8
@@ -74,6 +75,7 @@ def main() -> None:
     ap.add_argument("--check", type=int, default=4, help="variants to re-solve alone (default 4)")
     args = ap.parse_args()
 
+    load_before = os.getloadavg()[0]
     with tempfile.TemporaryDirectory(prefix="hingeline-study-bench-") as tmp:
         folder = Path(tmp)
         (folder / "demo.toml").write_text((resources.files("hingeline") / "data" / "demo.toml").read_text())
@@ -103,6 +105,8 @@ def main() -> None:
 
     print(f"machine: {_machine()}")
     print(f"date: {datetime.date.today().isoformat()}, commit: {_commit()}, resolution: {args.resolution}")
+    # The speed-up means little on a machine busy with other work: say how busy it was.
+    print(f"load average (1 min) before: {load_before:.1f}, after: {os.getloadavg()[0]:.1f}")
     print()
     print("| positions on the grid | variants solved | skipped | median solve (s) | total, 1 worker (s) "
           "| total, 2 workers (s) | speed-up | 1 vs 2 workers, largest rel. difference "

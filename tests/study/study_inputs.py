@@ -38,6 +38,13 @@ y = [1.0, 1.0]
 """
 
 
+def line_study(x: tuple[float, float], y: float, step: float, extra: str = "") -> str:
+    """A study moving opening 1 of panel.toml along the line at `y` (m) between x[0] and
+    x[1] (m), `step` apart, followed by `extra` (more tables)."""
+    return (f'model = "panel.toml"\n[move_opening]\nopening = 1\nstep = {step}\n'
+            f"x = [{x[0]}, {x[1]}]\ny = [{y}, {y}]\n{extra}")
+
+
 def write_study(folder: Path, study: str, model: str = STRIP) -> Path:
     """Write panel.toml and study.toml into `folder`; return the study file's path."""
     (folder / "panel.toml").write_text(model, encoding="utf-8")

@@ -13,7 +13,7 @@ from hingeline.study.paths import PathError, check_numeric, split_path, with_val
 from hingeline.study.store import fingerprint, to_toml
 from hingeline.study.variants import grid_axis
 
-from study_inputs import ALONG_AXIS, STRIP, write_study
+from study_inputs import ALONG_AXIS, STRIP, line_study, write_study
 
 BAD = [
     # (study file text, words the message must hold)
@@ -106,14 +106,7 @@ region = [[4.7, 1.0], [5.3, 1.0], [5.3, 2.0], [4.7, 2.0]]
 def test_skip_reasons(tmp_path):
     """Opening 1 moved along y = 1.5 m in 1 m steps: x = 0 leaves the slab, x = 3 hits opening
     2, x = 4 hits the column, x = 5 overlaps the tank's load, x = 1 and 2 fit."""
-    study = write_study(tmp_path, """\
-model = "panel.toml"
-[move_opening]
-opening = 1
-step = 1.0
-x = [0.0, 6.0]
-y = [1.5, 1.5]
-""", model=OBSTACLES)
+    study = write_study(tmp_path, line_study((0.0, 6.0), 1.5, 1.0), model=OBSTACLES)
     plan = build_variants(read_study(study))
     reasons = {s.x: s.reason for s in plan.skipped}
     assert reasons == {0.0: "leaves the slab", 3.0: "hits opening 2", 4.0: "hits C1",

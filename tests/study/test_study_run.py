@@ -13,7 +13,7 @@ from hingeline.model import model_from_toml, parse_model, read_model
 from hingeline.study import run as study_run
 from hingeline.verify import read_result, verify_result
 
-from study_inputs import ALONG_AXIS, MESH, STRIP, read_rows, write_study
+from study_inputs import ALONG_AXIS, MESH, STRIP, line_study, read_rows, write_study
 
 
 @pytest.fixture(scope="module")
@@ -121,17 +121,8 @@ def test_sweep_and_skipped_rows(tmp_path):
     """A sweep of the load value and a grid reaching the panel's edge: the positions that
     leave the slab are rows with their reason; the load factor scales as 1 / load (no held
     loads: the work equation is linear in the factored load)."""
-    study = write_study(tmp_path, """\
-model = "panel.toml"
-[move_opening]
-opening = 1
-step = 1.0
-x = [0.0, 1.0]
-y = [1.0, 1.0]
-[[sweep]]
-key = "load.imposed.value"
-values = [10.0, 20.0]
-""")
+    study = write_study(tmp_path, line_study((0.0, 1.0), 1.0, 1.0,
+                                             '[[sweep]]\nkey = "load.imposed.value"\nvalues = [10.0, 20.0]\n'))
     assert main(["study", str(study), "-o", str(tmp_path / "out"), "--mesh-size", MESH, "--jobs", "1",
                  "--no-lower-bound"]) == 0
     rows = read_rows(tmp_path / "out" / "study.csv")
