@@ -91,11 +91,16 @@ def run(args: argparse.Namespace) -> int:
     try:
         rows = run_study(study, plan, options, args.outdir, jobs=args.jobs, client=client,
                          on_start=progress.start, on_done=progress)
+        paths = write_study_outputs(study, plan, rows, options, args.outdir)
+    except OSError as exc:
+        where = exc.filename or args.outdir
+        raise report.OutputError(f"output folder '{args.outdir}': cannot write '{where}' "
+                                 f"({exc.strerror or exc}); the variants stored so far are kept, "
+                                 "free space or choose another folder with -o") from None
     finally:
         progress.close()
         if client is not None:
             client.close()
-    paths = write_study_outputs(study, plan, rows, options, args.outdir)
     _print_summary(study, rows, paths)
     return 0
 
