@@ -5,7 +5,8 @@ Grid. Positions are those of the opening's area centroid, `step` apart in x and 
 within the limits [x], [y] of [move_opening] (so a grid fills its limits symmetrically, and
 limits a whole number of steps apart are both on the grid). Without limits, the centre may
 range over the slab's bounding box shrunk by the opening's own extent about its centroid
-(at size factor 1), so that the opening's bounding box stays inside the slab's.
+(at size factor 1) and by a millionth of the slab's size, so that the opening's bounding box
+stays strictly inside the slab's.
 
 Skip reasons, first that applies, by shapely predicates with the model's tolerance: the
 opening leaves the slab or touches its edge; it hits another opening, a column or a wall
@@ -97,8 +98,11 @@ def grid(study: Study) -> tuple[np.ndarray, np.ndarray]:
     poly = np.asarray(move.polygon, dtype=float)
     c = centroid(poly)
     outline = np.asarray(study.model.slab.outline)
-    lo = outline.min(axis=0) + (c - poly.min(axis=0))
-    hi = outline.max(axis=0) - (poly.max(axis=0) - c)
+    # The opening may not touch the edge, so keep the extreme positions a hair inside: a grid
+    # whose ends landed exactly on the limits would waste them on skips.
+    margin = 1e-6 * float(max(outline.max(axis=0) - outline.min(axis=0)))
+    lo = outline.min(axis=0) + (c - poly.min(axis=0)) + margin
+    hi = outline.max(axis=0) - (poly.max(axis=0) - c) - margin
     axes = []
     for k, (axis, limits) in enumerate((("x", move.x), ("y", move.y))):
         a, b = limits if limits is not None else (lo[k], hi[k])
