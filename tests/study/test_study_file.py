@@ -175,4 +175,4 @@ def test_example_study_reads():
     plan = build_variants(study)
     assert study.move.opening == 2 and study.move.scale == (1.0, 1.5)
     assert len(plan.variants) > 0 and len(plan.skipped) > 0
-    assert {v.values for v in plan.variants} == {(4.5,), (7.5,)}
+    assert {v.values for v in plan.variants} == {(4.5,), (9.0,)}
