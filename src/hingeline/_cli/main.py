@@ -11,7 +11,7 @@ import os
 import sys
 
 from ..errors import HingelineError, SolverError
-from . import check, demo, design, record, solve, verify
+from . import check, demo, design, record, solve, study, verify
 
 #: Subcommand name -> module with add_args(parser) and run(args) -> int.
 COMMANDS = {
@@ -21,6 +21,7 @@ COMMANDS = {
     "check": check,
     "design": design,
     "verify": verify,
+    "study": study,
 }
 
 EXIT_OK = 0
