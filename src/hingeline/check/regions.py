@@ -114,7 +114,8 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
     """The region's polygon at `params`, clipped to the slab (openings cut out)."""
     where = f"region '{spec.name}'"
     pts = np.array([[e.value(params) for e in p] for p in spec.polygon])
-    poly = Polygon(pts)
+    holes = [np.array([[e.value(params) for e in p] for p in ring]) for ring in spec.holes]
+    poly = Polygon(pts, holes)
     if not poly.is_valid or poly.area <= tol_area:
         raise ModelError(f"{where}.polygon: not a simple polygon with positive area "
                          f"(at {fmt_params(params)}); list its corners once around, without crossings")
@@ -211,6 +212,7 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     pts, inv = merge_points(segs.reshape(-1, 2), 1e-9 * scale)
     facets = inv.reshape(-1, 2)
     facets = np.unique(np.sort(facets[facets[:, 0] != facets[:, 1]], axis=1), axis=0)
+    facets = _split_near(pts, facets, 1e-9 * scale)
     info = triangle.MeshInfo()
     info.set_points(pts.tolist())
     info.set_facets(facets.tolist())
@@ -236,6 +238,33 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     remap = np.full(len(V), -1)
     remap[used] = np.arange(len(used))
     return V[used], remap[T], region
+
+
+def _split_near(pts: np.ndarray, facets: np.ndarray, tol: float) -> np.ndarray:
+    """Facets split at every point within `tol` (m) of their inside.
+
+    Two boundaries that run together to round-off (a region's side along the outline, say)
+    are noded only where GEOS happens to see them cross; a point of one left a hair off the
+    other would make a sliver triangle lying in no region. Splitting there makes them one."""
+    tree = shapely.STRtree(shapely.points(pts))
+    segs = shapely.linestrings(pts[facets])
+    f, k = tree.query(segs, predicate="dwithin", distance=tol)
+    keep = (k != facets[f, 0]) & (k != facets[f, 1])
+    if not keep.any():
+        return facets
+    f, k = f[keep], k[keep]
+    a, b = pts[facets[f, 0]], pts[facets[f, 1]]
+    t = ((pts[k] - a) * (b - a)).sum(1) / ((b - a) ** 2).sum(1)
+    # Each facet becomes the chain through its own ends and the points near it, in order.
+    fi = np.concatenate([f, np.arange(len(facets)), np.arange(len(facets))])
+    ti = np.concatenate([t, np.zeros(len(facets)), np.ones(len(facets))])
+    pi = np.concatenate([k, facets[:, 0], facets[:, 1]])
+    order = np.lexsort((ti, fi))
+    fi, pi = fi[order], pi[order]
+    same = fi[1:] == fi[:-1]
+    out = np.stack([pi[:-1][same], pi[1:][same]], axis=1)
+    out = out[out[:, 0] != out[:, 1]]
+    return np.unique(np.sort(out, axis=1), axis=0)
 
 
 def pattern_mechanism(model: Model, pattern: Pattern, params: Mapping[str, float] | None = None) -> Mechanism:
