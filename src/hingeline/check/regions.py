@@ -92,7 +92,7 @@ def _layout(model: Model, pattern: Pattern, params: Mapping[str, float]) -> Layo
     outline = model.slab.outline
     scale = float(np.hypot(*np.ptp(outline, axis=0)))
     tol_len = 1e-7 * scale
-    slab = Polygon(outline, list(model.slab.openings))
+    slab = slab_polygon(model)
     tol_area = 1e-8 * slab.area
     names, shapes, planes, raw = [], [], [], []
     for spec in pattern.regions:
@@ -148,14 +148,32 @@ def _check_cover(names, shapes, slab: Polygon, tol_len: float, tol_area: float) 
                          "the regions must cover the slab (openings excepted)")
 
 
-def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, tol_w: float) -> None:
-    """Supported edges hold w = 0: region corners on the edge and edge ends on the region."""
+def slab_polygon(model: Model):
+    """The slab a pattern covers: the outline less openings and the footprints of columns
+    and walls (ground, like the outside of a supported edge)."""
+    slab = Polygon(model.slab.outline, list(model.slab.openings))
+    for sp in model.supports:
+        slab = slab.difference(sp.polygon)
+    return slab
+
+
+def supported_edges(model: Model) -> list[tuple[str, np.ndarray]]:
+    """(label, edge (1, 2, 2) m) of every supported outline edge and every face of a column
+    or wall: each holds w = 0."""
     outline = model.slab.outline
     n_out = len(outline)
-    for k, kind in enumerate(model.slab.edges):
-        if kind == "free":
-            continue
-        edge = np.array([[outline[k], outline[(k + 1) % n_out]]])
+    out = [(edge_label(model, k), np.array([[outline[k], outline[(k + 1) % n_out]]]))
+           for k, kind in enumerate(model.slab.edges) if kind != "free"]
+    for sp in model.supports:
+        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+            ring = np.asarray(part.exterior.coords)
+            out += [(f"face {_xy(p)}-{_xy(q)} of {sp.name}", np.array([[p, q]])) for p, q in zip(ring[:-1], ring[1:])]
+    return out
+
+
+def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, tol_w: float) -> None:
+    """Supported edges hold w = 0: region corners on the edge and edge ends on the region."""
+    for label, edge in supported_edges(model):
         for i, s in enumerate(shapes):
             cand = np.concatenate([raw[i], edge[0]])
             on_edge = segment_distance(cand, edge)[:, 0] <= tol_len
@@ -165,7 +183,7 @@ def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, 
                 if abs(wi) > tol_w:
                     raise ModelError(
                         f"region '{names[i]}': w = {wi:.6g} m at {_xy(pt)} on the supported "
-                        f"{edge_label(model, k)}; a supported edge holds w = 0, so the region must "
+                        f"{label}; a supported edge holds w = 0, so the region must "
                         "rotate about that edge (or not touch it)")
 
 
@@ -199,6 +217,9 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     scale = float(np.hypot(*np.ptp(outline, axis=0)))
     lines = [LineString(np.vstack([outline, outline[:1]]))]
     lines += [LineString(np.vstack([h, h[:1]])) for h in model.slab.openings]
+    # Columns and walls are ground: their faces bound the slab, their footprints are holes.
+    feet = [part for sp in model.supports for part in getattr(sp.polygon, "geoms", [sp.polygon])]
+    lines += [part.exterior for part in feet]
     for s in lay.shapes:
         for p in _polys(s):
             lines.append(p.exterior)
@@ -217,6 +238,7 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     info.set_points(pts.tolist())
     info.set_facets(facets.tolist())
     holes = [Polygon(h).representative_point().coords[0] for h in model.slab.openings]
+    holes += [part.representative_point().coords[0] for part in feet]
     if holes:
         info.set_holes([list(h) for h in holes])
     mesh = triangle.build(info, quality_meshing=False, generate_faces=False)
@@ -229,8 +251,7 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     region = np.full(len(T), -1)
     for i, s in enumerate(lay.shapes):
         region[(region < 0) & shapely.contains_xy(s, c[:, 0], c[:, 1])] = i
-    slab = Polygon(outline, list(model.slab.openings))
-    keep = shapely.contains_xy(slab, c[:, 0], c[:, 1])
+    keep = shapely.contains_xy(slab_polygon(model), c[:, 0], c[:, 1])
     if np.any(keep & (region < 0)):  # pragma: no cover - the cover check forbids this
         raise ModelError("internal: a triangle of the slab lies in no region")
     T, region = T[keep], region[keep]
