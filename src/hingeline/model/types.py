@@ -138,11 +138,13 @@ class LoadCase:
 class Support:
     """A column or wall under the slab: its footprint (shapely Polygon, m, clipped to the
     outline) is rigid ground; connection "monolithic" (hinges round its faces mobilise the
-    hogging capacity) or "pinned" (the slab rotates freely about its faces)."""
+    hogging capacity) or "pinned" (the slab rotates freely about its faces); kind "column"
+    or "wall", the table it was given in (drawings put them apart)."""
 
     polygon: Polygon
     connection: str
     name: str
+    kind: str = "column"
 
 
 @dataclass(frozen=True, eq=False)
