@@ -124,6 +124,9 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
         raise ModelError(f"{where}.polygon: extends outside the slab outline by {outside.area:.3g} m2 "
                          f"near {_xy(outside.representative_point().coords[0])}")
     clipped = poly if not poly.intersects(slab.boundary) or poly.within(slab) else poly.intersection(slab)
+    if clipped.geom_type == "GeometryCollection":
+        # Clipping along a face that meets the outline can leave stray points and lines.
+        clipped = shapely.union_all([g for g in shapely.get_parts(clipped) if g.geom_type == "Polygon"])
     if clipped.area <= tol_area:
         raise ModelError(f"{where}.polygon: lies wholly in an opening; remove the region")
     return clipped

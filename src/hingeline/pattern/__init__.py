@@ -30,7 +30,7 @@ from ..model import Model
 from ..result import Mechanism
 from ..upper.certificate import CERTIFICATE_RTOL
 from .handfile import hand_pattern_text, region_names
-from .lines import CleanLine, Fan, clean_lines, find_fans
+from .lines import CleanLine, Fan, clean_lines, find_fans, region_junctions
 from .regions import Region, find_regions, thin_rings
 
 __all__ = ["CleanLine", "CleanPattern", "Fan", "Region", "clean_pattern"]
@@ -97,5 +97,5 @@ def clean_pattern(model: Model, mech: Mechanism, raw_load_factor: float) -> Clea
     return CleanPattern(
         load_factor=hc.load_factor, raw_load_factor=float(raw_load_factor), regions=tuple(regions),
         names=tuple(region_names(regions)), rings=tuple(tuple(r) for r in rings), lines=tuple(lines),
-        fans=tuple(find_fans(lines, size)), mechanism=hc.mechanism, internal=hc.internal,
+        fans=tuple(find_fans(lines, region_junctions(mech, regions), size)), mechanism=hc.mechanism, internal=hc.internal,
         hand_pattern=text)

@@ -6,9 +6,10 @@ between a region and a supported edge, where work is done) are the yield lines; 
 one sense on one straight line that touch are joined into one line, also across a
 junction of regions, as a reviewer would draw them.
 
-A fan is a point where at least FAN_MIN_RAYS lines end: under a point load or round a
-column the mechanism approximates a cone by many narrow regions, and a reviewer reads
-that as one item (apex, number of rays, angle they span, their work).
+A fan is a point where at least FAN_MIN_RAYS regions meet and as many rays of lines
+leave: under a point load or round a column the mechanism approximates a cone by many
+narrow regions, and a reviewer reads that as one item (apex, its lines, the angle their
+rays span, their work). Four regions meet where two diagonals cross; that is no fan.
 
 Units: m, rad, kNm. Rotations > 0; sense "sagging" (bottom bars yield) or "hogging".
 May import: numpy, shapely, `hingeline.model`, `hingeline.geometry`, `hingeline.upper`
@@ -27,7 +28,7 @@ from ..result import Mechanism
 from ..upper.certificate import hinges
 from .regions import PLANE_RTOL, STRAIGHT_RTOL, Region
 
-#: Lines ending at one point that make it a fan (four meet where two diagonals cross).
+#: Regions meeting at a point, and rays leaving it, that make it a fan.
 FAN_MIN_RAYS = 5
 
 GROUND = -1      # the "region" on the far side of a hinge along a supported edge
@@ -53,9 +54,9 @@ class CleanLine:
 
 @dataclass(frozen=True)
 class Fan:
-    """Lines meeting at one point: apex (m), the numbers of the lines (rays), the angle
-    (deg) the rays span (360 less the largest gap between neighbouring rays), their work
-    (kNm) and its share of the internal work."""
+    """Lines meeting at one point: apex (m), the numbers of the lines ending at it or
+    passing through it (`rays`), the angle (deg) their rays span (360 less the largest gap
+    between neighbouring rays), their work (kNm) and its share of the internal work."""
 
     apex: tuple[float, float]
     rays: tuple[int, ...]
@@ -146,23 +147,39 @@ def clean_lines(model: Model, mech: Mechanism, regions: list[Region]) -> list[Cl
             for k, (wk, p, q, length, rot, sense, sup) in enumerate(found)]
 
 
-def find_fans(lines: list[CleanLine], size: float, min_rays: int = FAN_MIN_RAYS) -> list[Fan]:
-    """Points where at least `min_rays` lines end, most work first."""
-    if not lines:
+def region_junctions(mech: Mechanism, regions: list[Region], min_regions: int = FAN_MIN_RAYS) -> np.ndarray:
+    """Points (k, 2) m of the mechanism where at least `min_regions` regions meet."""
+    label = np.empty(len(mech.triangles), int)
+    for r, reg in enumerate(regions):
+        label[reg.triangles] = r
+    pairs = np.unique(np.column_stack([mech.triangles.ravel(), np.repeat(label, 3)]), axis=0)
+    count = np.bincount(pairs[:, 0], minlength=len(mech.vertices))
+    return mech.vertices[count >= min_regions]
+
+
+def find_fans(lines: list[CleanLine], apexes: np.ndarray, size: float, min_rays: int = FAN_MIN_RAYS) -> list[Fan]:
+    """Fans at the candidate `apexes` (points where many regions meet): the lines ending
+    at an apex are one ray each, a line passing through it two; an apex with at least
+    `min_rays` rays is a fan. Most work first."""
+    if not lines or not len(apexes):
         return []
-    ends = np.array([[ln.start, ln.end] for ln in lines]).reshape(-1, 2)
-    reps, cluster = merge_points(ends, 10 * STRAIGHT_RTOL * size)
-    counts = np.bincount(cluster)
+    tol = 10 * STRAIGHT_RTOL * size
+    ends = np.array([[ln.start, ln.end] for ln in lines])
+    seg_d = segment_distance(apexes, ends)                      # (apexes, lines)
     fans = []
-    for c in np.flatnonzero(counts >= min_rays):
-        at = np.flatnonzero(cluster == c)
-        rays = at // 2
-        apex = reps[c]
-        far = ends[np.where(at % 2 == 0, at + 1, at - 1)]
-        ang = np.sort(np.arctan2(far[:, 1] - apex[1], far[:, 0] - apex[0]))
+    for i, apex in enumerate(apexes):
+        on = np.flatnonzero(seg_d[i] <= tol)
+        dirs = []
+        for k in on:
+            for p in ends[k]:
+                if np.hypot(*(p - apex)) > tol:                 # each end away from the apex is a ray
+                    dirs.append(np.arctan2(p[1] - apex[1], p[0] - apex[0]))
+        if len(dirs) < min_rays:
+            continue
+        ang = np.sort(dirs)
         gaps = np.diff(np.concatenate([ang, ang[:1] + 2 * np.pi]))
-        fans.append(Fan((float(apex[0]), float(apex[1])), tuple(int(lines[r].number) for r in rays),
-                        float(np.degrees(2 * np.pi - gaps.max())), float(sum(lines[r].work for r in rays)),
-                        float(sum(lines[r].share for r in rays))))
+        fans.append(Fan((float(apex[0]), float(apex[1])), tuple(int(lines[k].number) for k in on),
+                        float(np.degrees(2 * np.pi - gaps.max())), float(sum(lines[k].work for k in on)),
+                        float(sum(lines[k].share for k in on))))
     fans.sort(key=lambda f: -f.work)
     return fans
