@@ -187,3 +187,35 @@ def test_one_way_strip_is_two_regions_and_one_line():
     assert ln.length == pytest.approx(2.0, rel=1e-9)          # across the strip's width
     assert ln.start[0] == pytest.approx(0.5) and ln.end[0] == pytest.approx(0.5)
     assert ln.sense == "sagging" and ln.share == pytest.approx(1.0)
+
+
+def test_fan_under_a_point_load_on_a_clamped_slab():
+    # A point load far from the edges of a clamped slab: the mechanism is a fan of rigid
+    # regions round the load. For any such cone (apex deflection d, region i with boundary
+    # length L_i at distance h_i from the apex), the sagging rays do m d sum(L_i / h_i) and
+    # the hogging boundary m' d sum(L_i / h_i) (Johansen's yield-line theory, point loads):
+    # with m = m' the rays do exactly half the work, and no cone beats the circular fan,
+    # P >= 2 pi (m + m').
+    mdl = hingeline.model_from_toml("""
+[slab]
+outline = [[-2, -2], [2, -2], [2, 2], [-2, 2]]
+edges = "continuous"
+[capacity]
+sagging = 1.0
+hogging = 1.0
+[[load]]
+type = "point"
+value = 1.0
+at = [0.0, 0.0]
+[analysis]
+resolution = "coarse"
+""")
+    res = hingeline.solve(mdl, lower_bound=False)
+    cp = clean_pattern(res.model, res.mechanism, res.load_factor)
+    assert cp.load_factor >= 2 * math.pi * 2 * (1 - 1e-9)
+    assert len(cp.fans) == 1
+    fan = cp.fans[0]
+    assert fan.apex == pytest.approx((0.0, 0.0), abs=1e-9)
+    assert len(fan.rays) >= 8 and fan.angle > 270
+    assert all(cp.lines[k - 1].sense == "sagging" for k in fan.rays)
+    assert fan.share == pytest.approx(0.5, rel=1e-6)
