@@ -125,10 +125,11 @@ def clean_lines(model: Model, mech: Mechanism, regions: list[Region]) -> list[Cl
     L = np.hypot(d[:, 0], d[:, 1])
     normal = np.stack([-d[:, 1], d[:, 0]], axis=1) / L[:, None]
     side = _sides(regions, 0.5 * (a + b), normal, size)
-    # Interior sides rotating beyond round-off, and supported sides where work is done
-    # (a simply supported edge rotates but nothing yields there).
+    # Sides rotating beyond round-off: between two regions, or on a supported edge where
+    # work is done (a simply supported edge rotates but nothing yields there).
     ground = side[:, 0] == GROUND
-    keep = np.where(ground, work > 0, (np.abs(theta) > PLANE_RTOL * tmax) & (side[:, 0] != side[:, 1]))
+    turns = np.abs(theta) > PLANE_RTOL * tmax
+    keep = turns & np.where(ground, work > 0, side[:, 0] != side[:, 1])
     internal = float(work.sum())
     found = []
     for at_support in (False, True):
