@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..check import check_pattern, pattern_from_toml
-from ..errors import ModelError
+from ..errors import ModelError, SolverError
 from ..model import Model
 from ..result import Mechanism
 from ..upper.certificate import CERTIFICATE_RTOL
@@ -83,7 +83,7 @@ def clean_pattern(model: Model, mech: Mechanism, raw_load_factor: float) -> Clea
     for rings in (thin_rings(regions, size), full):
         try:
             text, hc = _checked(model, regions, rings)
-        except ModelError as exc:
+        except (ModelError, SolverError) as exc:
             log.info("clean pattern refused by the hand check: %s", exc)
             continue
         if abs(hc.load_factor - raw_load_factor) <= CERTIFICATE_RTOL * abs(raw_load_factor):
