@@ -1,9 +1,10 @@
 """Rigid regions of a hand-drawn pattern, their checks, and the mechanism they make.
 
 Holds the evaluation of a pattern at given parameter values: each region's polygon
-(clipped to the slab) and its plane w = c0 + c1 x + c2 y from its motion; the checks
-that the regions cover the slab without overlap, fit together along shared boundaries
-and hold w = 0 on supported edges (ModelError naming the region or pair of regions);
+(with its holes, clipped to the slab: openings and the footprints of columns and walls
+cut out) and its plane w = c0 + c1 x + c2 y from its motion; the checks that the regions
+cover the slab without overlap, fit together along shared boundaries and hold w = 0 on
+supported edges and faces of supports (ModelError naming the region or pair of regions);
 the constrained triangulation of the slab with every region boundary as a segment; and
 the resulting P1 deflection field (`pattern_mechanism`).
 
