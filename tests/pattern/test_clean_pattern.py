@@ -64,6 +64,24 @@ def _cone(outline, apex, refine=0):
     return Mechanism(V, T, w)
 
 
+def _point_load_model(outline, edges):
+    """Isotropic slab, m = m' = 1, a unit point load at the origin, coarse mesh."""
+    return hingeline.model_from_toml(f"""
+[slab]
+outline = {outline}
+edges = {edges!r}
+[capacity]
+sagging = 1.0
+hogging = 1.0
+[[load]]
+type = "point"
+value = 1.0
+at = [0.0, 0.0]
+[analysis]
+resolution = "coarse"
+""".replace("'", '"'))
+
+
 def test_square_cone_reads_as_four_regions_and_two_diagonals():
     # Johansen: simply supported isotropic square, diagonal pattern, 24 m / L^2 (L = 1, m = 1).
     mdl = model(SQUARE, ["simple"] * 4)
@@ -98,18 +116,7 @@ def test_regular_octagon_under_a_point_load_is_a_fan():
     n = 8
     ang = 2 * np.pi * np.arange(n) / n
     outline = np.column_stack([np.cos(ang), np.sin(ang)]).round(15).tolist()
-    mdl = hingeline.model_from_toml(f"""
-[slab]
-outline = {outline}
-edges = {["simple"] * n!r}
-[capacity]
-sagging = 1.0
-hogging = 1.0
-[[load]]
-type = "point"
-value = 1.0
-at = [0.0, 0.0]
-""".replace("'", '"'))
+    mdl = _point_load_model(outline, ["simple"] * n)
     mech = _cone(outline, [0.0, 0.0], refine=1)
     lf = check_mechanism(mdl, mech).load_factor
     assert lf == pytest.approx(2 * n * math.tan(math.pi / n), rel=1e-9)
@@ -196,20 +203,7 @@ def test_fan_under_a_point_load_on_a_clamped_slab():
     # the hogging boundary m' d sum(L_i / h_i) (Johansen's yield-line theory, point loads):
     # with m = m' the rays do exactly half the work, and no cone beats the circular fan,
     # P >= 2 pi (m + m').
-    mdl = hingeline.model_from_toml("""
-[slab]
-outline = [[-2, -2], [2, -2], [2, 2], [-2, 2]]
-edges = "continuous"
-[capacity]
-sagging = 1.0
-hogging = 1.0
-[[load]]
-type = "point"
-value = 1.0
-at = [0.0, 0.0]
-[analysis]
-resolution = "coarse"
-""")
+    mdl = _point_load_model([[-2, -2], [2, -2], [2, 2], [-2, 2]], ["continuous"] * 4)
     res = hingeline.solve(mdl, lower_bound=False)
     cp = clean_pattern(res.model, res.mechanism, res.load_factor)
     assert cp.load_factor >= 2 * math.pi * 2 * (1 - 1e-9)
