@@ -40,3 +40,51 @@ def test_cover_and_overlap_named():
     with pytest.raises(ModelError, match=r"regions '\w+' and '\w+' overlap") as err:
         check_pattern(SIMPLE_SQUARE, pattern_from_toml(over))
     assert "'north'" in str(err.value)
+
+
+# One-way strip, span L = 2 between simply supported ends x = 0 and x = 2, free sides,
+# m = 1, q = 1: Johansen's 8 m / L^2 = 2 for two regions turning about the supports.
+STRIP = """
+[[region]]
+name = "west"
+polygon = [[0, 0], [1, 0], [1, 1], [0, 1]]
+{holes}
+axis = [[0, 0], [0, 1]]
+point = [1, 0.5]
+deflection = 1.0
+
+[[region]]
+name = "east"
+polygon = [[1, 0], [2, 0], [2, 1], [1, 1]]
+axis = [[2, 0], [2, 1]]
+point = [1, 0.5]
+deflection = 1.0
+"""
+INNER = """
+[[region]]
+name = "inner"
+polygon = [[0.2, 0.2], [0.6, 0.2], [0.6, 0.6], [0.2, 0.6]]
+axis = [[0, 0], [0, 1]]
+point = [1, 0.5]
+deflection = 1.0
+"""
+
+
+def _strip():
+    from unit_slabs import model
+    return model([[0, 0], [2, 0], [2, 1], [0, 1]], ["free", "simple", "free", "simple"])
+
+
+def test_region_with_a_hole_round_another_region():
+    # The inner region moves with the plane of the one round it: the strip's closed form.
+    holes = "holes = [[[0.2, 0.2], [0.6, 0.2], [0.6, 0.6], [0.2, 0.6]]]"
+    hc = check_pattern(_strip(), pattern_from_toml(STRIP.format(holes=holes) + INNER))
+    assert hc.load_factor == pytest.approx(2.0, rel=1e-12)
+    assert sum(b.work for b in hc.boundaries) == pytest.approx(hc.internal, rel=1e-12)
+
+
+def test_hole_left_empty_named():
+    holes = "holes = [[[0.2, 0.2], [0.6, 0.2], [0.6, 0.6], [0.2, 0.6]]]"
+    with pytest.raises(ModelError) as err:
+        check_pattern(_strip(), pattern_from_toml(STRIP.format(holes=holes)))
+    assert "covered by no region" in str(err.value) and "0.16 m2" in str(err.value)

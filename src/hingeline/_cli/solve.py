@@ -12,8 +12,9 @@ from . import report
 #: Plot formats the command line writes (each as pattern.<fmt> and deflection.<fmt>).
 CLI_FORMATS = ("png", "svg")
 
-HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (yield lines) and "
-        "deflection.png/.svg (deflected shape)")
+HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (yield lines), "
+        "deflection.png/.svg (deflected shape), hand-pattern.toml (the mechanism as rigid regions, "
+        "for hingeline check) and pattern.dxf (the clean yield lines)")
 
 
 def positive_number(option: str, unit: str = ""):

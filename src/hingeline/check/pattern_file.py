@@ -126,6 +126,7 @@ class RegionSpec:
 
     motion "axis": w = 0 on the line through axis[0], axis[1]; w = deflection at point.
     motion "points": w given at three non-collinear points (x, y, w).
+    holes: rings (expressions, m) cut out of the polygon, for a region round another region.
     """
 
     name: str
@@ -135,6 +136,7 @@ class RegionSpec:
     point: tuple[Expr, Expr] | None = None
     deflection: Expr | None = None
     deflections: tuple[tuple[Expr, Expr, Expr], ...] | None = None
+    holes: tuple[tuple[tuple[Expr, Expr], ...], ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -227,7 +229,7 @@ def _parse_pattern(data: dict, source: str) -> Pattern:
         if name in seen:
             raise ModelError(f"{where}: the name is used twice; give each region its own name")
         seen.add(name)
-        allowed = {"name", "polygon", "axis", "point", "deflection", "deflections"}
+        allowed = {"name", "polygon", "holes", "axis", "point", "deflection", "deflections"}
         extra = set(r) - allowed
         if extra:
             raise ModelError(f"{where}: unknown key(s) {sorted(extra)}; allowed: {sorted(allowed)}")
@@ -235,6 +237,7 @@ def _parse_pattern(data: dict, source: str) -> Pattern:
         if not isinstance(poly, list) or len(poly) < 3:
             raise ModelError(f"{where}.polygon: expected a list of at least 3 [x, y] points")
         polygon = tuple(_point(v, names, f"{where}.polygon[{i}]") for i, v in enumerate(poly))
+        holes = _holes(r.get("holes", []), names, where)
         has_axis = any(key in r for key in ("axis", "point", "deflection"))
         if has_axis and "deflections" in r:
             raise ModelError(f"{where}: give either axis/point/deflection or deflections, not both")
@@ -243,7 +246,7 @@ def _parse_pattern(data: dict, source: str) -> Pattern:
             if not isinstance(d, list) or len(d) != 3:
                 raise ModelError(f"{where}.deflections: expected three [x, y, w] points")
             pts = tuple(_point(v, names, f"{where}.deflections[{i}]", 3) for i, v in enumerate(d))
-            regions.append(RegionSpec(name, polygon, "points", deflections=pts))
+            regions.append(RegionSpec(name, polygon, "points", deflections=pts, holes=holes))
         elif has_axis:
             missing = [key for key in ("axis", "point", "deflection") if key not in r]
             if missing:
@@ -252,13 +255,24 @@ def _parse_pattern(data: dict, source: str) -> Pattern:
             if not isinstance(ax, list) or len(ax) != 2:
                 raise ModelError(f"{where}.axis: expected two points [[x, y], [x, y]]")
             axis = tuple(_point(v, names, f"{where}.axis[{i}]") for i, v in enumerate(ax))
-            regions.append(RegionSpec(name, polygon, "axis", axis=axis,
+            regions.append(RegionSpec(name, polygon, "axis", axis=axis, holes=holes,
                                       point=_point(r["point"], names, f"{where}.point"),
                                       deflection=_expr(r["deflection"], names, f"{where}.deflection")))
         else:
             raise ModelError(f"{where}: no motion; give axis, point and deflection, or deflections")
     return Pattern(tuple(params), tuple(regions), source)
 
+
+def _holes(raw, names: set[str], where: str) -> tuple:
+    """The optional `holes` of a region: a list of rings of at least 3 [x, y] points."""
+    if not isinstance(raw, list):
+        raise ModelError(f"{where}.holes: expected a list of rings [[x, y], ...]")
+    out = []
+    for h, ring in enumerate(raw):
+        if not isinstance(ring, list) or len(ring) < 3:
+            raise ModelError(f"{where}.holes[{h}]: expected a ring of at least 3 [x, y] points")
+        out.append(tuple(_point(v, names, f"{where}.holes[{h}][{i}]") for i, v in enumerate(ring)))
+    return tuple(out)
 
 
 def with_values(pattern: Pattern, given: Mapping[str, float] | None) -> dict[str, float]:

@@ -1,10 +1,11 @@
 """Rigid regions of a hand-drawn pattern, their checks, and the mechanism they make.
 
 Holds the evaluation of a pattern at given parameter values: each region's polygon
-(clipped to the slab) and its plane w = c0 + c1 x + c2 y from its motion; the checks
-that the regions cover the slab without overlap, fit together along shared boundaries
-and hold w = 0 on supported edges and at the centres of pinned columns (ModelError naming
-the region or pair of regions);
+(with its holes, clipped to the slab: openings and the footprints of monolithic columns
+and of walls cut out) and its plane w = c0 + c1 x + c2 y from its motion; the checks that
+the regions cover the slab without overlap, fit together along shared boundaries and hold
+w = 0 on supported edges, faces of those supports and at the centres of pinned columns
+(ModelError naming the region or pair of regions);
 the constrained triangulation of the slab with every region boundary as a segment; and
 the resulting P1 deflection field (`pattern_mechanism`).
 
@@ -93,7 +94,7 @@ def _layout(model: Model, pattern: Pattern, params: Mapping[str, float]) -> Layo
     outline = model.slab.outline
     scale = float(np.hypot(*np.ptp(outline, axis=0)))
     tol_len = 1e-7 * scale
-    slab = Polygon(outline, list(model.slab.openings))
+    slab = slab_polygon(model)
     tol_area = 1e-8 * slab.area
     names, shapes, planes, raw = [], [], [], []
     for spec in pattern.regions:
@@ -115,7 +116,8 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
     """The region's polygon at `params`, clipped to the slab (openings cut out)."""
     where = f"region '{spec.name}'"
     pts = np.array([[e.value(params) for e in p] for p in spec.polygon])
-    poly = Polygon(pts)
+    holes = [np.array([[e.value(params) for e in p] for p in ring]) for ring in spec.holes]
+    poly = Polygon(pts, holes)
     if not poly.is_valid or poly.area <= tol_area:
         raise ModelError(f"{where}.polygon: not a simple polygon with positive area "
                          f"(at {fmt_params(params)}); list its corners once around, without crossings")
@@ -124,6 +126,9 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
         raise ModelError(f"{where}.polygon: extends outside the slab outline by {outside.area:.3g} m2 "
                          f"near {_xy(outside.representative_point().coords[0])}")
     clipped = poly if not poly.intersects(slab.boundary) or poly.within(slab) else poly.intersection(slab)
+    if clipped.geom_type == "GeometryCollection":
+        # Clipping along a face that meets the outline can leave stray points and lines.
+        clipped = shapely.union_all([g for g in shapely.get_parts(clipped) if g.geom_type == "Polygon"])
     if clipped.area <= tol_area:
         raise ModelError(f"{where}.polygon: lies wholly in an opening; remove the region")
     return clipped
@@ -148,14 +153,38 @@ def _check_cover(names, shapes, slab: Polygon, tol_len: float, tol_area: float) 
                          "the regions must cover the slab (openings excepted)")
 
 
-def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, tol_w: float) -> None:
-    """Supported edges hold w = 0: region corners on the edge and edge ends on the region."""
+def ground(model: Model) -> list:
+    """Supports whose footprint is rigid ground: walls and monolithic columns."""
+    return [sp for sp in model.supports if not sp.bearing]
+
+
+def slab_polygon(model: Model):
+    """The slab a pattern covers: the outline less openings and the footprints of columns
+    and walls (ground, like the outside of a supported edge), pinned columns excepted (the
+    slab rotates over them)."""
+    slab = Polygon(model.slab.outline, list(model.slab.openings))
+    for sp in ground(model):
+        slab = slab.difference(sp.polygon)
+    return slab
+
+
+def supported_edges(model: Model) -> list[tuple[str, np.ndarray]]:
+    """(label, edge (1, 2, 2) m) of every supported outline edge and every face of a wall or
+    monolithic column: each holds w = 0 (a pinned column holds its centre only)."""
     outline = model.slab.outline
     n_out = len(outline)
-    for k, kind in enumerate(model.slab.edges):
-        if kind == "free":
-            continue
-        edge = np.array([[outline[k], outline[(k + 1) % n_out]]])
+    out = [(edge_label(model, k), np.array([[outline[k], outline[(k + 1) % n_out]]]))
+           for k, kind in enumerate(model.slab.edges) if kind != "free"]
+    for sp in ground(model):
+        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+            ring = np.asarray(part.exterior.coords)
+            out += [(f"face {_xy(p)}-{_xy(q)} of {sp.name}", np.array([[p, q]])) for p, q in zip(ring[:-1], ring[1:])]
+    return out
+
+
+def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, tol_w: float) -> None:
+    """Supported edges hold w = 0: region corners on the edge and edge ends on the region."""
+    for label, edge in supported_edges(model):
         for i, s in enumerate(shapes):
             cand = np.concatenate([raw[i], edge[0]])
             on_edge = segment_distance(cand, edge)[:, 0] <= tol_len
@@ -165,7 +194,7 @@ def _check_supports(model: Model, names, shapes, planes_a, raw, tol_len: float, 
                 if abs(wi) > tol_w:
                     raise ModelError(
                         f"region '{names[i]}': w = {wi:.6g} m at {_xy(pt)} on the supported "
-                        f"{edge_label(model, k)}; a supported edge holds w = 0, so the region must "
+                        f"{label}; a supported edge holds w = 0, so the region must "
                         "rotate about that edge (or not touch it)")
     # A pinned column holds its centre at w = 0 (and nothing else): a region on it must pass
     # through w = 0 there.
@@ -212,6 +241,9 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     scale = float(np.hypot(*np.ptp(outline, axis=0)))
     lines = [LineString(np.vstack([outline, outline[:1]]))]
     lines += [LineString(np.vstack([h, h[:1]])) for h in model.slab.openings]
+    # Columns and walls are ground: their faces bound the slab, their footprints are holes.
+    feet = [part for sp in ground(model) for part in getattr(sp.polygon, "geoms", [sp.polygon])]
+    lines += [part.exterior for part in feet]
     for s in lay.shapes:
         for p in _polys(s):
             lines.append(p.exterior)
@@ -225,10 +257,12 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     pts, inv = merge_points(segs.reshape(-1, 2), 1e-9 * scale)
     facets = inv.reshape(-1, 2)
     facets = np.unique(np.sort(facets[facets[:, 0] != facets[:, 1]], axis=1), axis=0)
+    facets = _split_near(pts, facets, 1e-9 * scale)
     info = triangle.MeshInfo()
     info.set_points(pts.tolist())
     info.set_facets(facets.tolist())
     holes = [Polygon(h).representative_point().coords[0] for h in model.slab.openings]
+    holes += [part.representative_point().coords[0] for part in feet]
     if holes:
         info.set_holes([list(h) for h in holes])
     mesh = triangle.build(info, quality_meshing=False, generate_faces=False)
@@ -241,8 +275,7 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     region = np.full(len(T), -1)
     for i, s in enumerate(lay.shapes):
         region[(region < 0) & shapely.contains_xy(s, c[:, 0], c[:, 1])] = i
-    slab = Polygon(outline, list(model.slab.openings))
-    keep = shapely.contains_xy(slab, c[:, 0], c[:, 1])
+    keep = shapely.contains_xy(slab_polygon(model), c[:, 0], c[:, 1])
     if np.any(keep & (region < 0)):  # pragma: no cover - the cover check forbids this
         raise ModelError("internal: a triangle of the slab lies in no region")
     T, region = T[keep], region[keep]
@@ -250,6 +283,33 @@ def _triangulate(model: Model, lay: Layout) -> tuple[np.ndarray, np.ndarray, np.
     remap = np.full(len(V), -1)
     remap[used] = np.arange(len(used))
     return V[used], remap[T], region
+
+
+def _split_near(pts: np.ndarray, facets: np.ndarray, tol: float) -> np.ndarray:
+    """Facets split at every point within `tol` (m) of their inside.
+
+    Two boundaries that run together to round-off (a region's side along the outline, say)
+    are noded only where GEOS happens to see them cross; a point of one left a hair off the
+    other would make a sliver triangle lying in no region. Splitting there makes them one."""
+    tree = shapely.STRtree(shapely.points(pts))
+    segs = shapely.linestrings(pts[facets])
+    f, k = tree.query(segs, predicate="dwithin", distance=tol)
+    keep = (k != facets[f, 0]) & (k != facets[f, 1])
+    if not keep.any():
+        return facets
+    f, k = f[keep], k[keep]
+    a, b = pts[facets[f, 0]], pts[facets[f, 1]]
+    t = ((pts[k] - a) * (b - a)).sum(1) / ((b - a) ** 2).sum(1)
+    # Each facet becomes the chain through its own ends and the points near it, in order.
+    fi = np.concatenate([f, np.arange(len(facets)), np.arange(len(facets))])
+    ti = np.concatenate([t, np.zeros(len(facets)), np.ones(len(facets))])
+    pi = np.concatenate([k, facets[:, 0], facets[:, 1]])
+    order = np.lexsort((ti, fi))
+    fi, pi = fi[order], pi[order]
+    same = fi[1:] == fi[:-1]
+    out = np.stack([pi[:-1][same], pi[1:][same]], axis=1)
+    out = out[out[:, 0] != out[:, 1]]
+    return np.unique(np.sort(out, axis=1), axis=0)
 
 
 def pattern_mechanism(model: Model, pattern: Pattern, params: Mapping[str, float] | None = None) -> Mechanism:

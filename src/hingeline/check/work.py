@@ -27,7 +27,7 @@ from ..result import Mechanism
 from ..upper.certificate import check_mechanism, work_per_load
 from .optimise import optimise_parameters
 from .pattern_file import Pattern, fmt_params, with_values
-from .regions import Layout, edge_label, field, p1_mechanism
+from .regions import Layout, edge_label, field, ground, p1_mechanism
 
 
 @dataclass(frozen=True)
@@ -40,7 +40,8 @@ class BoundaryWork:
     """
 
     between: str
-    kind: str               # "hinge" (between regions), "simple" or "continuous" (supported edge)
+    kind: str               # "hinge" (between regions), "simple" or "continuous" (supported edge),
+                            # "monolithic" or "pinned" (face of a column or wall)
     length: float
     rotation: float
     work: float
@@ -138,16 +139,23 @@ def _hinge_work(model: Model, V, region, lay: Layout, g, edges) -> Iterator[tupl
 
 def _support_work(model: Model, V, region, lay: Layout, g, edges) -> Iterator[tuple]:
     """(label, edge kind, length m, rotation rad, work kNm) of each triangle side on a supported
-    edge; only a continuous edge in hogging does work."""
+    edge or a face of a column or wall; only hogging there does work, at the share of the
+    hogging capacity the support mobilises (as in the certificate)."""
     e, opp, tri, _, single = edges
     cap = model.capacity
     outline = model.slab.outline
     size = float(np.hypot(*np.ptp(outline, axis=0)))
     idx = np.flatnonzero(single)
-    for k, kind in enumerate(model.slab.edges):
-        if kind == "free":
-            continue
-        edge = np.array([[outline[k], outline[(k + 1) % len(outline)]]])
+    fixity = model.slab.fixity or (1.0,) * len(outline)
+    sides = [(edge_label(model, k), kind, np.array([[outline[k], outline[(k + 1) % len(outline)]]]),
+              fixity[k] if kind == "continuous" else 0.0)
+             for k, kind in enumerate(model.slab.edges) if kind != "free"]
+    for sp in ground(model):
+        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+            ring = np.asarray(part.exterior.coords)
+            share = 1.0 if sp.connection == "monolithic" else 0.0
+            sides += [(f"{sp.name}", sp.connection, np.array([[p, q]]), share) for p, q in zip(ring[:-1], ring[1:])]
+    for label, kind, edge, share in sides:
         a, b = e[idx, 0], e[idx, 1]
         on = (segment_distance(V[a], edge)[:, 0] <= 1e-8 * size) & (segment_distance(V[b], edge)[:, 0] <= 1e-8 * size)
         sel = idx[on]
@@ -155,13 +163,10 @@ def _support_work(model: Model, V, region, lay: Layout, g, edges) -> Iterator[tu
             continue
         L, nu = _normals(V, e[sel, 0], e[sel, 1], opp[sel])     # into the slab
         theta = -(g[tri[sel]] * nu).sum(1)
-        if kind == "continuous":
-            mm = normal_capacity(cap.hogging, cap.bar_angle, nu)
-            work = L * np.where(theta < 0, -mm * theta, 0.0)
-        else:
-            work = np.zeros(len(sel))
+        mm = share * normal_capacity(cap.hogging, cap.bar_angle, nu)
+        work = L * np.where(theta < 0, -mm * theta, 0.0)
         for m in range(len(sel)):
-            yield f"{lay.names[region[tri[sel[m]]]]} on {edge_label(model, k)}", kind, L[m], theta[m], work[m]
+            yield f"{lay.names[region[tri[sel[m]]]]} on {label}", kind, L[m], theta[m], work[m]
 
 
 def _load_factor(model: Model, pattern: Pattern, values: Mapping[str, float]) -> float:

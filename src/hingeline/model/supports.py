@@ -52,7 +52,7 @@ def parse_supports(columns: Any, walls: Any, geo: Geometry) -> tuple[Support, ..
             part = footprint.intersection(geo.outline)
             if part.area <= geo.area_tol:
                 raise Invalid(f"{where} does not meet the slab; move it under the slab")
-            out.append(Support(polygon=part, connection=connection, name=name, centre=centre))
+            out.append(Support(polygon=part, connection=connection, name=name, centre=centre, kind=key))
     for a in range(len(out)):
         for b in range(a + 1, len(out)):
             if out[a].polygon.intersection(out[b].polygon).area > geo.area_tol:

@@ -186,7 +186,7 @@ class LoadCase:
 class Support:
     """A column or wall under the slab: its footprint (shapely Polygon, m, clipped to the
     outline) and connection "monolithic" or "pinned"; centre (2,) in m for a column, None for
-    a wall.
+    a wall; kind "column" or "wall", the table it was given in (drawings put them apart).
 
     A monolithic column or any wall holds its footprint as rigid ground; hinges round the
     faces of a monolithic one mobilise the hogging capacity, those of a pinned wall cost
@@ -197,6 +197,7 @@ class Support:
     connection: str
     name: str
     centre: np.ndarray | None = None
+    kind: str = "column"
 
     @property
     def bearing(self) -> bool:

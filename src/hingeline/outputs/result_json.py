@@ -4,9 +4,11 @@
 (floats unrounded, so `json` writes them with repr and they read back bit for bit;
 this matters because the certificate is re-checked from the file).
 `write_outputs` renders everything in memory first and only then writes
-OUTDIR/result.json, OUTDIR/pattern.<fmt> (the yield-line plan) and
-OUTDIR/deflection.<fmt> (contours of the mechanism's w / w_max), so a failure
-while rendering leaves nothing behind. The fields of result.json are described
+OUTDIR/result.json, OUTDIR/pattern.<fmt> (the yield-line plan),
+OUTDIR/deflection.<fmt> (contours of the mechanism's w / w_max) and, when the
+mechanism reads as a clean pattern (hingeline.pattern), OUTDIR/hand-pattern.toml
+(that pattern as a file `hingeline check` reads) and OUTDIR/pattern.dxf (its
+drawing, outputs/dxf.py), so a failure while rendering leaves nothing behind. The fields of result.json are described
 by the JSON Schema docs/result.schema.json.
 
 Units follow result.py: lengths m, moments kNm/m, rotations rad, work kNm,
@@ -39,6 +41,10 @@ PLOT_FORMATS = ("png", "pdf", "svg")
 #: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
 #: ratio of the lower-bound moment field, written only when the result has that field).
 PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
+
+#: The clean pattern as a hand-pattern file (docs/hand-check.md) and as a DXF drawing (m).
+HAND_PATTERN = "hand-pattern.toml"
+PATTERN_DXF = "pattern.dxf"
 
 #: Resolution of raster plot files, dots per inch.
 PLOT_DPI = 150
@@ -165,7 +171,48 @@ def _fields(obj: Any) -> dict:
     return {f.name: _plain(getattr(obj, f.name)) for f in fields(obj)}
 
 
-def result_to_dict(result: Result) -> dict:
+def _ring_dict(rings) -> dict:
+    return {"exterior": _floats(rings[0]), "holes": [_floats(h) for h in rings[1:]]}
+
+
+def pattern_to_dict(cp) -> dict | None:
+    """The clean pattern (hingeline.pattern.CleanPattern) as plain data; None stays None."""
+    if cp is None:
+        return None
+    regions, rest = [], []
+    for reg, name, rings in zip(cp.regions, cp.names, cp.rings):
+        if reg.at_rest:
+            rest.append(_ring_dict(rings))
+            continue
+        axis = None if reg.axis_point is None else {
+            "point": _floats(reg.axis_point), "direction": _floats(reg.axis_direction),
+            "slope": _float(reg.slope), "contact": reg.axis_contact}
+        regions.append({"name": name, "polygon": _ring_dict(rings), "plane": _floats(reg.plane),
+                        "axis": axis, "max_deflection": _float(reg.max_deflection)})
+    return {
+        "load_factor": _float(cp.load_factor),
+        "regions": regions,
+        "at_rest": rest,
+        "lines": [{"number": ln.number, "start": _floats(ln.start), "end": _floats(ln.end),
+                   "length": _float(ln.length), "rotation": _float(ln.rotation), "sense": ln.sense,
+                   "work": _float(ln.work), "share": _float(ln.share), "at_support": bool(ln.at_support)}
+                  for ln in cp.lines],
+        "fans": [{"apex": _floats(f.apex), "rays": [int(r) for r in f.rays], "angle": _float(f.angle),
+                  "work": _float(f.work), "share": _float(f.share)} for f in cp.fans],
+    }
+
+
+def clean_pattern_of(result: Result):
+    """The clean pattern of the result's mechanism (hingeline.pattern), or None."""
+    from ..pattern import clean_pattern
+
+    return clean_pattern(result.model, result.mechanism, result.load_factor)
+
+
+_UNSET = object()
+
+
+def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
     """The Result as a JSON-ready dict of plain lists, floats, ints, strings and bools.
 
     Keys: hingeline_version, title, load_factor, units, yield_lines (list of
@@ -175,11 +222,14 @@ def result_to_dict(result: Result) -> dict:
     for a model with load cases, the governing case's loads), warnings, cautions,
     case (governing load case or None), cases (name and load factor of every case),
     lower_bound (None when not computed, else {load_factor, gap, solved, status, seconds,
-    reason, check, field {nodes, triangles, moments}}). Floats keep full precision;
-    non-finite floats become None.
+    reason, check, field {nodes, triangles, moments}}), pattern (the clean pattern, see
+    pattern_to_dict; computed here unless given, None when it cannot be read). Floats keep
+    full precision; non-finite floats become None.
     See docs/result-format.md.
     """
     mech = result.mechanism
+    if pattern is _UNSET:
+        pattern = clean_pattern_of(result)
     return {
         "hingeline_version": hingeline_version(),
         "title": result.model.title,
@@ -202,6 +252,7 @@ def result_to_dict(result: Result) -> dict:
                    "lower_bound": None if lb is None else _float(lb)}
                   for (n, lf), lb in zip(result.cases, result.case_lower_bounds or (None,) * len(result.cases))],
         "lower_bound": _lower_bound_to_dict(result),
+        "pattern": pattern_to_dict(pattern),
     }
 
 
@@ -257,8 +308,9 @@ def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
 
 def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[str] = ("png",)) -> list[Path]:
     """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt>, OUTDIR/deflection.<fmt> and (with a
-    lower-bound field) OUTDIR/utilisation.<fmt> for each format; return the paths (result.json
-    first, then the plots format by format).
+    lower-bound field) OUTDIR/utilisation.<fmt> for each format, and (when the mechanism reads
+    as a clean pattern) OUTDIR/hand-pattern.toml and OUTDIR/pattern.dxf; return the paths
+    (result.json first, then the plots format by format, then the two pattern files).
 
     formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
     pattern: the yield-line plan (plots.plot_pattern); deflection: the contour plan of
@@ -277,7 +329,8 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
         if fmt not in PLOT_FORMATS:
             raise ValueError(f"unknown plot format {fmt!r}; choose from {', '.join(PLOT_FORMATS)}")
 
-    text = json.dumps(result_to_dict(result), indent=1, allow_nan=False) + "\n"
+    cp = clean_pattern_of(result)
+    text = json.dumps(result_to_dict(result, cp), indent=1, allow_nan=False) + "\n"
     blobs: list[tuple[str, bytes]] = [("result.json", text.encode("utf-8"))]
     has_field = result.lower_bound is not None and result.lower_bound.field is not None
     for fmt in dict.fromkeys(formats):
@@ -285,6 +338,11 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
             if kind == "utilisation" and not has_field:
                 continue
             blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind)))
+    if cp is not None:
+        from .dxf import pattern_dxf
+
+        blobs.append((HAND_PATTERN, cp.hand_pattern.encode("utf-8")))
+        blobs.append((PATTERN_DXF, pattern_dxf(result.model, cp)))
 
     out = Path(outdir)
     out.mkdir(parents=True, exist_ok=True)
@@ -313,5 +371,5 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
 def stale_outputs(outdir: Path, current: set[str]) -> list[Path]:
     """Files in `outdir` with a name write_outputs uses (result.json, KIND.FORMAT) that are
     not among `current`, the names just written."""
-    names = {f"{kind}.{fmt}" for kind in PLOT_KINDS for fmt in PLOT_FORMATS} | {"result.json"}
+    names = {f"{kind}.{fmt}" for kind in PLOT_KINDS for fmt in PLOT_FORMATS} | {"result.json", HAND_PATTERN, PATTERN_DXF}
     return [outdir / n for n in sorted(names - current) if (outdir / n).is_file()]

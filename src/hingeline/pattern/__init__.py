@@ -1,0 +1,101 @@
+"""The clean pattern: a raw DLO mechanism read as rigid regions and straight yield lines.
+
+Public names: `clean_pattern`, `CleanPattern`, `Region`, `CleanLine`, `Fan`.
+
+A raw mechanism is a P1 field on many triangles and its yield lines are many short
+pieces. `clean_pattern` groups the triangles into rigid regions (`regions`), writes them
+as a hand-pattern file (`handfile`, the format `hingeline check` reads), checks that file
+by the hand check's own work equation (the certificate of the regions' triangulation),
+and reads the straight yield lines and fans off the checked field (`lines`).
+
+The pattern is kept only if its work equation agrees with the raw mechanism's load factor
+to CERTIFICATE_RTOL: the regions are the mechanism's own planes, so any larger difference
+would mean the reading went wrong, and a pattern that disagrees is not shown. Its load
+factor is always its own certificate's, never a number carried over from the raw result.
+
+Units: m, rad, kNm; w m per kNm of factored-load work, positive downward.
+May import: `hingeline.model`, `hingeline.geometry`, `hingeline.upper`, `hingeline.check`,
+`hingeline.result`, `hingeline.errors`.
+"""
+from __future__ import annotations
+
+import logging
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..check import check_pattern, pattern_from_toml
+from ..errors import ModelError, SolverError
+from ..model import Model
+from ..result import Mechanism
+from ..upper.certificate import CERTIFICATE_RTOL
+from .handfile import hand_pattern_text, region_names
+from .lines import CleanLine, Fan, clean_lines, find_fans, region_junctions
+from .regions import Region, find_regions, thin_rings
+
+__all__ = ["CleanLine", "CleanPattern", "Fan", "Region", "clean_pattern"]
+
+log = logging.getLogger(__name__)
+
+
+@dataclass(frozen=True, eq=False)
+class CleanPattern:
+    """A mechanism read as a pattern of rigid regions.
+
+    load_factor: the work equation of the pattern (hand check of `hand_pattern`).
+    raw_load_factor: the load factor of the mechanism it was read from.
+    regions, names, rings: the regions, their names ("R1", ..., "rest 1", ...) and the
+        rings written for them (exterior first, m; straight-through corners dropped).
+    lines: straight yield lines, most work first; fans: points where many lines end.
+    mechanism: the pattern's field, scaled so the scaled loads do 1 kNm of work.
+    internal: internal work of that field, kNm. hand_pattern: the pattern file's text.
+    """
+
+    load_factor: float
+    raw_load_factor: float
+    regions: tuple[Region, ...]
+    names: tuple[str, ...]
+    rings: tuple[tuple[np.ndarray, ...], ...]
+    lines: tuple[CleanLine, ...]
+    fans: tuple[Fan, ...]
+    mechanism: Mechanism
+    internal: float
+    hand_pattern: str
+
+
+def _checked(model: Model, regions, rings):
+    """(text, HandCheck) of the regions written with `rings`; ModelError if the check refuses."""
+    text = hand_pattern_text(model, regions, rings)
+    hc = check_pattern(model, pattern_from_toml(text, source="clean pattern"), optimise=False)
+    # The file carries its own load factor as a comment, so a reader sees what to expect.
+    return hand_pattern_text(model, regions, rings, hc.load_factor), hc
+
+
+def clean_pattern(model: Model, mech: Mechanism, raw_load_factor: float) -> CleanPattern | None:
+    """The clean pattern of `mech` (a mechanism of `model` with load factor `raw_load_factor`),
+    or None (logged) when it cannot be read faithfully."""
+    regions = find_regions(mech)
+    size = float(np.hypot(*np.ptp(np.asarray(model.slab.outline), axis=0)))
+    full = [[np.asarray(r.coords)[:-1] for r in (reg.polygon.exterior, *reg.polygon.interiors)]
+            for reg in regions]
+    # Dropping straight-through corners moves a boundary by at most STRAIGHT_RTOL of the
+    # slab's size; should that ever upset the check, the rings as found are tried instead.
+    for rings in (thin_rings(regions, size), full):
+        try:
+            text, hc = _checked(model, regions, rings)
+        except (ModelError, SolverError) as exc:
+            log.info("clean pattern refused by the hand check: %s", exc)
+            continue
+        if abs(hc.load_factor - raw_load_factor) <= CERTIFICATE_RTOL * abs(raw_load_factor):
+            break
+        log.info("clean pattern's load factor %.9g differs from the mechanism's %.9g",
+                 hc.load_factor, raw_load_factor)
+    else:
+        log.warning("the mechanism could not be read as a clean pattern; none is shown")
+        return None
+    lines = clean_lines(model, hc.mechanism, regions)
+    return CleanPattern(
+        load_factor=hc.load_factor, raw_load_factor=float(raw_load_factor), regions=tuple(regions),
+        names=tuple(region_names(regions)), rings=tuple(tuple(r) for r in rings), lines=tuple(lines),
+        fans=tuple(find_fans(lines, region_junctions(mech, regions), size)), mechanism=hc.mechanism, internal=hc.internal,
+        hand_pattern=text)
