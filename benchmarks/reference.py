@@ -13,7 +13,7 @@ to that case alone (it includes the interpreter and the imported libraries).
 All cases: unit lengths (m), one uniform area load q = 1 kPa over the whole slab,
 so the load factor is the collapse load in kPa, i.e. the coefficient of m / L^2.
 
-The lower bound (issue 4) is computed in the same solve; its columns: "lower bd" (the
+The lower bound is computed in the same solve; its columns: "lower bd" (the
 value), "LB err %" against the reference, "gap %" = (load factor - lower bound) / load
 factor, and "LB s" (the lower-bound stage's own time, included in "time s").
 
@@ -21,7 +21,7 @@ Flags in the last column:
   LB>REF!      lower bound above the reference: every reference here is exact or an upper
                bound on the exact value, so this is a bug (the lower bound would be unsafe).
   LB>UB!       lower bound above the load factor: a bug in one of the two.
-  gap>target   gap larger than the issue-4 target (square cases: 3 % at normal, 1.5 % at fine).
+  gap>target   gap larger than the gap target (square cases: 3 % at normal, 1.5 % at fine).
   UNSAFE?      load factor more than 0.1 % BELOW the reference (hingeline gives upper
                bounds, so a value below an exact reference points at a bug; for a
                reference that is itself only an upper bound it may be legitimate).
@@ -39,7 +39,7 @@ import sys
 import time
 from dataclasses import dataclass, field
 
-UNSAFE_TOL = 0.001  # 0.1 %: flag a load factor this far below its reference (from the brief)
+UNSAFE_TOL = 0.001  # 0.1 %: flag a load factor this far below its reference
 
 
 # --------------------------------------------------------------------------- references
@@ -51,7 +51,7 @@ def johansen_rectangle(a: float, b: float, m: float = 1.0) -> float:
     Johansen's yield-line pattern (two triangles, two trapezoids), optimised over the
     position of the inner hinge points:
         q = 24 m / (a^2 (sqrt(3 + (a/b)^2) - a/b)^2)
-    Source: formula as given in the project brief (Johansen's rectangle solution;
+    Source: Johansen's rectangle solution (
     the formula itself is standard yield-line theory - recalled, not looked up).
     Check: a = b gives 24 m / a^2 (sqrt(4) - 1 = 1), the simply supported square.
     """
@@ -70,7 +70,7 @@ class Case:
     source_long: str                 # full citation / derivation, printed under the table
     target: dict[str, float | None] = field(default_factory=dict)  # resolution -> |error| limit, %
     default_target: float | None = None
-    gap_target: dict[str, float] = field(default_factory=dict)     # resolution -> gap limit, % (issue 4)
+    gap_target: dict[str, float] = field(default_factory=dict)     # resolution -> gap limit, %
 
     def target_for(self, resolution: str) -> float | None:
         return self.target.get(resolution, self.default_target)
@@ -128,7 +128,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
         reference=42.851,
         source="Fox 1974 (exact, sq. criterion)",
         source_long=("42.851 m/L^2: Fox, Phil. Trans. R. Soc. A 277 (1974); exact for the "
-                     "square yield criterion (value and citation as given in the brief)."),
+                     "square yield criterion."),
         target={"normal": 1.5, "fine": 0.7},   # none stated for "coarse"
         gap_target={"normal": 3.0, "fine": 1.5},
     ),
@@ -138,7 +138,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
         reference=johansen_rectangle(1.0, 2.0),
         source="Johansen rectangle formula",
         source_long=("24 m/(a^2 (sqrt(3+(a/b)^2) - a/b)^2) with a = 1, b = 2, computed in code "
-                     "(johansen_rectangle); Johansen's pattern, formula from the brief."),
+                     "(johansen_rectangle); Johansen's pattern."),
         default_target=0.5,
     ),
     Case(
@@ -159,7 +159,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
         source_long=("6 m/r^2, r = inradius = 1: pyramid mechanism of a regular polygon, "
                      "internal work m * perimeter / r = external work q * area / 3 (area = "
                      "perimeter * r / 2), for any regular polygon; the circle's exact value "
-                     "is 6 m/R^2 (derivation from the brief, re-derived here)."),
+                     "is 6 m/R^2 (derived here)."),
         default_target=1.0,
     ),
     Case(
@@ -169,7 +169,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
         source="affinity + rect. formula",
         source_long=(f"Johansen's affinity theorem (mu = {MU}): isotropic rectangle 1 x "
                      f"1/sqrt(mu) = 1 x {1 / math.sqrt(MU):.5f}, Johansen rectangle formula "
-                     f"computed in code = {ORTHO_REF:.5f} (method as given in the brief)."),
+                     f"computed in code = {ORTHO_REF:.5f}."),
         default_target=1.0,
     ),
 ]}

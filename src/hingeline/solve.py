@@ -14,23 +14,19 @@ import shapely
 
 from .errors import ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
-from .geometry.mesh import mesh_domain, mesh_size_for
+from .geometry.mesh import MAX_NODES, check_node_budget, mesh_domain, mesh_size_for
 from .lower import check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
 from .result import LowerBound, Result, SolveStats, Work
-from .upper.candidates import build_candidates
 from .upper.certificate import check_mechanism
-from .upper.loadwork import island_rows, load_coefficients
 from .upper.lp import solve_lp
 from .upper.mechanism import build_mechanism, yield_lines
+from .upper.pricing import candidate_source, total_force
 
 log = logging.getLogger(__name__)
 
 CERTIFICATE_RTOL = 1e-6  # relative agreement required between LP and certificate
 VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
-# Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.2 GB (measured on random points).
-# The LP time grows faster still: 1068 nodes took 1 to 2.5 minutes.
-MAX_NODES = 3000
 
 
 def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None,
@@ -48,33 +44,24 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     if res not in RESOLUTIONS:
         raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
     size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
+    option = ("mesh_size" if mesh_size else "analysis.mesh_size" if size == model.analysis.mesh_size
+              else f"the mesh size of resolution \"{res}\"")
+    check_node_budget(model, size, option)
 
     domain = build_domain(model, margin=size)
     mesh = mesh_domain(domain, model, size)
     nodes = mesh.nodes
     if len(nodes) > MAX_NODES:
         raise ModelError(
-            f"analysis.mesh_size = {size:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that "
-            "hingeline handles (candidate lines grow with the square of the nodes); use a larger "
-            "mesh_size or resolution = \"fine\"")
-    cand = build_candidates(nodes, domain, model)
-    log.info("mesh: %d nodes, %d candidate lines", len(nodes), len(cand))
-
-    p, q = nodes[cand.a], nodes[cand.b]
-    f, g, w_total = load_coefficients(model, domain.slab, p, q)
-
-    key = cand.a * len(nodes) + cand.b
-    order = np.argsort(key)
-    mkey = mesh.edges[:, 0] * len(nodes) + mesh.edges[:, 1]
-    pos = np.searchsorted(key, mkey, sorter=order)
-    initial = order[pos]
-    if not np.array_equal(key[initial], mkey):
-        raise SolverError("a mesh edge is missing from the candidate lines")
-
+            f"{option} = {size:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that fit in "
+            f"memory; use a larger {option}")
+    source = candidate_source(nodes, domain, model)
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
-    extra = island_rows(p, q, domain.islands) if domain.islands else None
-    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, tol=VIOLATION_TOL, extra=extra)
+    sol = solve_lp(source, mesh.edges, m_ref, tol=VIOLATION_TOL)
+    cand, f, g = sol.lines.cand, sol.lines.f, sol.lines.g
+    log.info("mesh: %d nodes, %d candidate lines", len(nodes), sol.candidates)
+    w_total = total_force(model, domain)
     lf = sol.objective
     # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).
     lf_scale = m_ref / w_total
@@ -116,7 +103,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     lb = _lower_bound(model, domain, mesh, float(lf), warnings) if lower_bound else None
     seconds = time.perf_counter() - t0
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
-    stats = SolveStats(len(nodes), slab_nodes, len(cand), int(sol.in_lp.sum()), sol.rounds,
+    stats = SolveStats(len(nodes), slab_nodes, sol.candidates, len(cand), sol.rounds,
                        sol.max_violation, seconds, float(size))
     log.info("load factor %.6f (certificate %.6f, plane mismatch %.1e), %.2f s",
              lf, check.load_factor, mismatch, seconds)

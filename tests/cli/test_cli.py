@@ -220,6 +220,17 @@ def test_solve_mesh_size_passed_through(tmp_path, fake_solver):
     assert fake_solver.calls[0]["resolution"] is None
 
 
+def test_too_fine_mesh_size_option_exit_2_before_solving(tmp_path, capsys, fake_solver):
+    # 1e-4 m elements on 5 m x 4 m: about 2.3e9 nodes (2 A / (sqrt(3) h^2)); refused with a
+    # message naming the option, before anything is meshed or solved.
+    model = write_model(tmp_path, GOOD_MODEL)
+    assert main(["solve", str(model), "-o", str(tmp_path / "o"), "--mesh-size", "1e-4"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: --mesh-size = 0.0001 m would mesh the slab with about") and "nodes" in err
+    assert fake_solver.calls == []
+    assert not (tmp_path / "o").exists()
+
+
 @pytest.mark.parametrize("exc, code", [(UnstableSlabError("the slab is a mechanism at zero load: free edges"), 2),
                                        (SolverError("HiGHS reported status 'time limit'"), 3)])
 def test_solver_errors_map_to_exit_codes(tmp_path, capsys, fake_solver, exc, code):

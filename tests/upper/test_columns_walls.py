@@ -1,4 +1,5 @@
 """Columns and walls under the slab: islands of ground inside the analysis domain."""
+import numpy as np
 import pytest
 
 import hingeline
@@ -38,10 +39,13 @@ def test_square_on_four_corner_columns_folds_along_a_centre_line():
     r = hingeline.solve(hingeline.model_from_toml(CORNERS.format(columns=corner_columns(a))))
     assert fold <= r.load_factor <= fold * 1.05
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
-    # The fold governs: one sagging line across the whole slab carries most of the work.
+    # The fold governs: sagging lines across the whole slab carry most of the work. By the
+    # square's symmetry the folds along x = L/2 and along y = L/2 are equally good, and so is
+    # any mix of the two, so the lines may lie on either centre line.
     yl = r.yield_lines
-    main = yl.dissipation.argmax()
-    assert yl.sagging[main] and yl.dissipation[main] > 0.9 * r.work.internal
+    on_centre = np.any([np.all(np.abs(np.stack([yl.start[:, k], yl.end[:, k]]) - L / 2) < 1e-9, axis=0)
+                        for k in (0, 1)], axis=0)
+    assert yl.dissipation[on_centre & yl.sagging].sum() > 0.9 * r.work.internal
 
 
 INTERIOR = """
