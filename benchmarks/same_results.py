@@ -13,7 +13,7 @@ record (``report``) of the demo and the podium deck as HTML text, drawings and d
 
 ``compare`` requires the result.json files to be equal value for value, bit for bit, except
 the fields that hold wall-clock times (any key named ``seconds``); printed output is compared
-line by line with times ("12.3 s") masked and
+line by line with times ("12.3 s", and the time column of the record's convergence table) masked and
 the snapshot's own folders replaced by names. Use it around a change that must not alter
 behaviour, such as a reorganisation of the modules.
 """
@@ -31,6 +31,8 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 TIME_KEYS = {"seconds"}
 TIME_TEXT = re.compile(r"\d+(\.\d+)?\s*s\b")
+# The last cell of a row of the record's convergence table (after the LP rounds): wall-clock seconds.
+RECORD_TIME = re.compile(r'(<td class="num">\d+</td><td class="num">)\d+\.\d+(</td></tr>)')
 DATA_URI = re.compile(r"data:image/[a-z+]+;base64,[A-Za-z0-9+/=]+")
 STAMP = re.compile(r"\d{4}-\d\d-\d\d \d\d:\d\d UTC")
 RECORDS = ("demo", "example-podium_deck_on_columns")   # calculation records compared as HTML text
@@ -112,8 +114,8 @@ def compare(old: Path, new: Path) -> int:
         elif rel.suffix == ".json":
             _diff(json.loads((old / rel).read_text()), json.loads((new / rel).read_text()), str(rel), found)
         else:
-            a = TIME_TEXT.sub("<t>", (old / rel).read_text()).splitlines()
-            b = TIME_TEXT.sub("<t>", (new / rel).read_text()).splitlines()
+            a, b = (RECORD_TIME.sub(r"\1<t>\2", TIME_TEXT.sub("<t>", (d / rel).read_text())).splitlines()
+                    for d in (old, new))
             found += [f"{rel}: {x!r} != {y!r}" for x, y in zip(a, b) if x != y]
             if len(a) != len(b):
                 found.append(f"{rel}: {len(a)} lines != {len(b)} lines")

@@ -5,8 +5,8 @@ held load. This is a self-consistency check of the pipeline (the LP's load
 factor against the independent work equation of its own mechanism, w = 0 on
 supports), not a check of a collapse value; it found two real faults (a GEOS
 overlay failure and a HiGHS failure) while it was written. The lower bound must exist
-for each (a wider run of 39 slabs with point and line loads and columns, issue 4, gave
-gaps of 0.2 to 11 % at "coarse", all with the lower bound below the load factor).
+for each (a wider run of 39 slabs with point and line loads and columns gave gaps of 0.2
+to 11 % at "coarse", all with the lower bound below the load factor).
 """
 import numpy as np
 import pytest
@@ -15,7 +15,9 @@ import shapely
 import hingeline
 
 
-def random_model(seed):
+def random_model(seed, hogging=None):
+    """Random slab number `seed`; hogging (kNm/m) replaces its random top-bar capacity when
+    given (the random draws stay the same, so the slab is otherwise unchanged)."""
     rng = np.random.default_rng(seed)
     while True:
         n = int(rng.integers(4, 9))
@@ -41,6 +43,8 @@ def random_model(seed):
     }
     if not openings:
         del data["slab"]["opening"]
+    if hogging is not None:
+        data["capacity"]["hogging"] = float(hogging)
     return hingeline.parse_model(data)
 
 
@@ -58,5 +62,18 @@ def test_random_slab_certificate(seed):
     # No warning that the certificate disagrees or that the rotations leave w != 0 on a support
     # or planes that do not meet (solve.py checks both before it sets w = 0 on supports).
     assert not [w for w in r.warnings if "certificate" in w or "compatible" in w]
-    # Issue 4: a lower bound exists and re-checks (conftest.py also asserts lower <= upper).
+    # A lower bound exists and re-checks (conftest.py also asserts lower <= upper).
     assert r.lower_bound.load_factor is not None, r.warnings
+
+
+# Without top bars the bound used to be 0 beside free edges and openings; seeds 2 and 8 also
+# ended with reduced accuracy or a numerical error in the cone solver (solved again with the
+# next settings, or kept as they re-check). Every random slab has a supported edge and
+# positive sagging capacity, so a positive lower bound must be found; the gap limit of 15 % is
+# this project's target at "coarse" (measured 5.1, 5.3 and 10.4 % for these seeds,
+# benchmarks/lower_no_top_bars.py --random).
+@pytest.mark.parametrize("seed", [0, 2, 8])
+def test_random_slab_without_top_bars_has_a_lower_bound(seed):
+    r = hingeline.solve(random_model(seed, hogging=0.0))
+    assert r.lower_bound.load_factor is not None and r.lower_bound.load_factor > 0, r.warnings
+    assert r.gap <= 0.15

@@ -13,6 +13,17 @@ import numpy as np
 
 from .model import Model
 
+#: Significant digits of a load factor in printed text; plot titles use one fewer. Fixed
+#: decimals would print 0.000 for a slab whose loads are large against its capacities.
+LOAD_FACTOR_DIGITS = 5
+
+
+def load_factor_text(value: float, digits: int = LOAD_FACTOR_DIGITS) -> str:
+    """A load factor (or lower bound, or capacity scale) in `digits` significant digits,
+    trailing zeros kept: 1.5 -> '1.5000', 0.00054321 -> '0.00054321', 24 -> '24.000'."""
+    return f"{value:#.{digits}g}"
+
+
 CAUTIONS = (
     "Yield-line analysis is an upper-bound method: the load factor is the collapse "
     "factor of the mechanism found, which can only be at or above the true collapse factor. "

@@ -12,20 +12,21 @@ from dataclasses import replace
 import numpy as np
 import shapely
 
-from .errors import ModelError, SolverError, UnstableSlabError
+from . import rescale
+from .errors import ModelError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import MAX_NODES, check_node_budget, mesh_domain, mesh_size_for
-from .lower import check_field, solve_lower_bound
+from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
-from .result import LowerBound, Result, SolveStats, Work
-from .upper.certificate import check_mechanism
+from .model.scaling import Scales, dimensionless, scales_of, size_warning
+from .result import CertificateCheck, LowerBound, Result, SolveStats, Work
+from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 from .upper.lp import solve_lp
 from .upper.mechanism import build_mechanism, yield_lines
 from .upper.pricing import candidate_source, total_force
 
 log = logging.getLogger(__name__)
 
-CERTIFICATE_RTOL = 1e-6  # relative agreement required between LP and certificate
 VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
 
 
@@ -38,23 +39,83 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
     size in m, overriding the resolution. Raises UnstableSlabError when the slab can
     collapse without resisting, SolverError when the LP fails.
+
+    Both bounds are solved in dimensionless units (model/scaling.py), so that no tolerance
+    depends on the slab's size or on the magnitude of its capacities and loads; the result
+    is in the model's units.
     """
     t0 = time.perf_counter()
     res = resolution or model.analysis.resolution
     if res not in RESOLUTIONS:
         raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
     size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
-    option = ("mesh_size" if mesh_size else "analysis.mesh_size" if size == model.analysis.mesh_size
-              else f"the mesh size of resolution \"{res}\"")
+    option = size_option(model, resolution, mesh_size)
+    # Refused before meshing: the mesher itself can exhaust memory on a tiny element size.
     check_node_budget(model, size, option)
+    s = scales_of(model)
+    hint = size_warning(model)
+    try:
+        raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s,
+                                                        option)
+    except UnstableSlabError as err:
+        if hint is None:
+            raise
+        raise UnstableSlabError(f"{err}; {hint}") from None
 
+    lf = rescale.load_factor(raw.load_factor, s)
+    mech = rescale.mechanism(raw.mechanism, s)
+    # The certificate re-checks the mechanism as it is returned, against the model as given.
+    check = check_mechanism(model, mech)
+    w_max = float(np.abs(mech.w).max())
+    warnings = [*model.capacity.warnings, *([hint] if hint else [])]
+    if not certificate_agrees(lf, check, w_max):
+        warnings.append(
+            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
+            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / abs(lf):.1e}, "
+            f"factored-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
+            "of the largest |w|); the larger value is not reliable, report this model to the developers")
+    if mismatch > 1e-8 or support_w > 1e-8:
+        warnings.append(
+            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
+            f"|w| on supports reaches {support_w:.1e} (both relative to the largest |w|); report this model "
+            "to the developers")
+    warnings += raw.warnings
+    lb = None
+    if raw.lower_bound is not None:
+        lb = rescale.lower_bound(raw.lower_bound, s)
+        if lb.load_factor is not None and lb.load_factor > lf * (1 + CERTIFICATE_RTOL):
+            warnings.append(
+                f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
+                "wrong; report this model to the developers")
+    stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - t0)
+    log.info("load factor %.6g (certificate %.6g), %.2f s", lf, check.load_factor, stats.seconds)
+    return Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
+                  check, tuple(warnings), lower_bound=lb)
+
+
+def size_option(model: Model, resolution: str | None, mesh_size: float | None) -> str:
+    """How the element size of a solve was set, in the words a user would recognise (for
+    messages): the mesh_size argument, the file's analysis.mesh_size, or a resolution word."""
+    if mesh_size:
+        return "mesh_size"
+    if resolution is None and model.analysis.mesh_size:
+        return "analysis.mesh_size"
+    return f'resolution "{resolution or model.analysis.resolution}"'
+
+
+def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales, option: str):
+    """The solve on `model` restated in the units `s` (model/scaling.py), with element size
+    `size` in those units; option: how the size was set (size_option). Returns (Result in those units, whose warnings are only those of
+    the line search and the lower bound; largest disagreement between planes meeting at a
+    vertex and largest |w| found on a supported edge, both relative to the largest |w|)."""
+    t0 = time.perf_counter()
     domain = build_domain(model, margin=size)
     mesh = mesh_domain(domain, model, size)
     nodes = mesh.nodes
     if len(nodes) > MAX_NODES:
         raise ModelError(
-            f"{option} = {size:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that fit in "
-            f"memory; use a larger {option}")
+            f"{option} = {size * s.length:.4g} m gives {len(nodes):,} nodes, more than the {MAX_NODES:,} "
+            f"that hingeline handles; use a larger {option}")
     source = candidate_source(nodes, domain, model)
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
@@ -69,7 +130,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
         if lf < -1e-7 * lf_scale:
             raise UnstableSlabError(
                 f"the slab cannot carry its held (unfactored) loads alone: the best mechanism has load "
-                f"factor {lf:.4g} < 0; reduce the held loads or add strength or supports")
+                f"factor {lf * s.load_factor:.4g} < 0; reduce the held loads or add strength or supports")
         raise UnstableSlabError(
             "the slab can move or fold without resisting (load factor 0): a mechanism exists that "
             "needs no internal work, e.g. a rigid rotation about a single supported edge or folding "
@@ -81,20 +142,9 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     internal = float(np.sum(np.where(theta > 0, cand.cost_plus * theta, -cand.cost_minus * theta)))
     held = float(g @ theta)
     factored = float(f @ theta)
-    check = check_mechanism(model, mech)
-
-    warnings = list(model.capacity.warnings)
-    if abs(check.load_factor - lf) > CERTIFICATE_RTOL * abs(lf):
-        warnings.append(
-            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
-            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / lf:.1e}); "
-            "the larger value is not reliable, report this model to the developers")
     w_max = float(np.abs(mech.w).max())
-    if mismatch > 1e-8 * w_max or support_w > 1e-8 * w_max:
-        warnings.append(
-            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
-            f"|w| on supports reaches {support_w:.1e} (largest |w| {w_max:.1e}); report this model "
-            "to the developers")
+
+    warnings = []
     if sol.max_violation > VIOLATION_TOL:
         warnings.append(
             f"the search for yield lines stopped before proving that no other node-to-node line "
@@ -105,24 +155,43 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
     stats = SolveStats(len(nodes), slab_nodes, sol.candidates, len(cand), sol.rounds,
                        sol.max_violation, seconds, float(size))
-    log.info("load factor %.6f (certificate %.6f, plane mismatch %.1e), %.2f s",
-             lf, check.load_factor, mismatch, seconds)
-    return Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
-                  tuple(warnings), lower_bound=lb)
+    log.info("dimensionless load factor %.6f (plane mismatch %.1e), %.2f s", lf, mismatch, seconds)
+    # The certificate is checked by `solve` on the mechanism in the model's units.
+    check = CertificateCheck(float("nan"), internal, factored, held, 0.0)
+    result = Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
+                    tuple(warnings), lower_bound=lb)
+    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300)
 
 
 def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
     """Solve for the lower bound, re-check the field, and keep its load factor only if the
-    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion)."""
-    sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
+    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion). A field that
+    fails the re-check is solved for again with the next of SOLVER_SETTINGS; if none passes,
+    the one closest to equilibrium (smallest relative residual) is kept."""
+    tried, seconds = [], 0.0
+    for attempt in range(len(SOLVER_SETTINGS)):
+        sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles, attempt)
+        seconds += sol.seconds
+        if sol.load_factor is None:
+            tried.append((sol, None))
+            if "Infeasible" in sol.status:
+                break
+            continue
+        chk = check_field(model, domain, sol.field, sol.load_factor)
+        tried.append((sol, chk))
+        if chk.in_equilibrium and chk.yield_ratio <= 1.0:
+            break
+    sol, chk = tried[-1]
+    if chk is None or not (chk.in_equilibrium and chk.yield_ratio <= 1.0):
+        checked = [sc for sc in tried if sc[1] is not None]
+        sol, chk = min(checked, key=lambda sc: sc[1].relative) if checked else tried[0]
     if sol.load_factor is None:
         reason = f"the lower-bound solver stopped with status '{sol.status}'"
         if "Infeasible" in sol.status:
             reason = ("no moment field on this mesh carries the held (unfactored) loads within the capacities, "
                       "so nothing can be proven even at load factor 0; a finer resolution may find one")
         warnings.append(f"no lower bound: {reason}")
-        return LowerBound(None, None, None, None, sol.status, sol.seconds, reason)
-    chk = check_field(model, domain, sol.field, sol.load_factor)
+        return LowerBound(None, None, None, None, sol.status, seconds, reason)
     value, reason = sol.load_factor, ""
     if not chk.in_equilibrium:
         value, reason = None, (f"the moment field is out of equilibrium by {chk.relative:.1e} (relative) "
@@ -135,12 +204,8 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
             value = sol.load_factor / chk.yield_ratio
     if value is None:
         warnings.append(f"no lower bound: {reason}")
-    elif value > upper * (1 + CERTIFICATE_RTOL):
-        warnings.append(
-            f"the lower bound {value:.6g} exceeds the load factor {upper:.6g}: one of the two is wrong; "
-            "report this model to the developers")
     log.info("lower bound %s (solver %.6f, %s, %.2f s)", value, sol.load_factor, sol.status, sol.seconds)
-    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, sol.seconds, reason)
+    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, seconds, reason)
 
 
 def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None,

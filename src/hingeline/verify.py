@@ -19,10 +19,10 @@ from .geometry.domain import build_domain
 from .lower import FieldCheck, MomentField, check_field
 from .model import Model, model_for_case
 from .result import CertificateCheck, Mechanism
-from .upper.certificate import check_mechanism
+from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 
 # Relative agreement required between a stored load factor and its re-check.
-RTOL = 1e-6
+RTOL = CERTIFICATE_RTOL
 
 
 @dataclass(frozen=True)
@@ -30,7 +30,8 @@ class Verification:
     """upper: load factor stored; upper_check: CertificateCheck of the stored mechanism;
     lower: lower bound stored (None if none); lower_check: FieldCheck of the stored field at
     the stored solver optimum `solved` (None without a field); proven: the load factor the
-    field proves (solved / max(1, yield ratio) when in equilibrium, else None)."""
+    field proves (solved / max(1, yield ratio) when in equilibrium, else None);
+    w_max: largest |w| of the stored mechanism, m/kNm."""
 
     upper: float
     upper_check: CertificateCheck
@@ -38,12 +39,11 @@ class Verification:
     solved: float | None
     lower_check: FieldCheck | None
     proven: float | None
+    w_max: float
 
     @property
     def upper_agrees(self) -> bool:
-        scale = max(1.0, abs(self.upper))
-        return (abs(self.upper_check.load_factor - self.upper) <= RTOL * scale
-                and abs(self.upper_check.factored - 1.0) <= RTOL)
+        return certificate_agrees(self.upper, self.upper_check, self.w_max)
 
     @property
     def lower_holds(self) -> bool:
@@ -96,4 +96,5 @@ def verify_result(model: Model, data: dict, where: str = "result.json") -> Verif
         lower_check = check_field(model, build_domain(model, margin=mesh_size), field, solved)
         if lower_check.in_equilibrium:
             proven = solved / max(1.0, lower_check.yield_ratio)
-    return Verification(upper, upper_check, lower, solved, lower_check, proven)
+    w_max = float(np.abs(mechanism.w).max(initial=0.0))
+    return Verification(upper, upper_check, lower, solved, lower_check, proven, w_max)

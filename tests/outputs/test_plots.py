@@ -1,235 +1,35 @@
-"""Plot functions on a real coarse solve: the artists each one draws.
+"""plots.py, the public face of the drawings: the names its callers use, and no pyplot.
 
-The slab is an invented test scenario: a 5 m x 3.6 m panel with a notch (an
-L-shape), one small opening, simple and continuous edges and one free edge,
-solved at the "coarse" resolution.
+The drawings themselves are tested in test_plan.py and test_contours.py.
 """
 from __future__ import annotations
 
-import dataclasses
+import subprocess
+import sys
 
-import numpy as np
-import pytest
-from matplotlib.axes import Axes
-from matplotlib.backends.backend_agg import FigureCanvasAgg
-from matplotlib.collections import TriMesh
-from matplotlib.contour import ContourSet
-from matplotlib.figure import Figure
-from matplotlib.patches import Rectangle
-from mpl_toolkits.mplot3d.art3d import Poly3DCollection
-
-from hingeline import solve
-from hingeline.model import model_from_toml
-from hingeline.outputs.plots import (
-    NO_LOWER_BOUND_TEXT,
-    SCALE_BAR_GID,
-    UTILISATION_LABEL,
-    W_RATIO_LABEL,
-    plot_deflection,
-    plot_deflection_3d,
-    plot_pattern,
-    plot_utilisation,
-    scale_bar_length,
-)
-
-NOTCHED_PANEL = """\
-title = "Plot test: notched panel"
-[slab]
-outline = [[0.0, 0.0], [5.0, 0.0], [5.0, 2.4], [3.2, 2.4], [3.2, 3.6], [0.0, 3.6]]
-edges = ["simple", "simple", "free", "continuous", "simple", "continuous"]
-[[slab.opening]]
-polygon = [[0.8, 0.8], [1.4, 0.8], [1.4, 1.3], [0.8, 1.3]]
-[capacity]
-sagging = 16.0
-hogging = 20.0
-[[load]]
-type = "area"
-value = 8.0
-[analysis]
-resolution = "coarse"
-"""
+from hingeline.outputs import contours, plan, plots
+from hingeline.outputs.result_json import PLOT_KINDS
 
 
-@pytest.fixture(scope="module")
-def result():
-    return solve(model_from_toml(NOTCHED_PANEL))
+def test_plots_gives_the_functions_callers_look_up_by_name():
+    # result_json looks the functions up by the names in PLOT_KINDS; the calculation record
+    # calls plot_pattern, plot_deflection and plot_utilisation
+    for name in PLOT_KINDS.values():
+        assert callable(getattr(plots, name))
+    assert plots.plot_pattern is plan.plot_pattern
+    assert plots.plot_deflection is contours.plot_deflection
+    assert plots.plot_deflection_3d is contours.plot_deflection_3d
+    assert plots.plot_utilisation is contours.plot_utilisation
+    assert all(hasattr(plots, name) for name in plots.__all__)
 
 
-def new_figure() -> Figure:
-    fig = Figure(figsize=(7.0, 5.5))
-    FigureCanvasAgg(fig)
-    return fig
-
-
-def scale_bar_texts(ax: Axes) -> list[str]:
-    return [t.get_text() for t in ax.texts if t.get_gid() == SCALE_BAR_GID]
-
-
-@pytest.mark.parametrize("size, length", [(6.0, 1.0), (5.0, 1.0), (12.0, 2.0), (30.0, 5.0), (3.0, 0.5),
-                                          (4.9, 0.5), (60.0, 10.0), (0.9, 0.1)])
-def test_scale_bar_length_is_round_and_at_most_a_fifth(size, length):
-    assert scale_bar_length(size) == pytest.approx(length)
-
-
-def test_plot_pattern_has_a_scale_bar_in_m(result):
-    ax = plot_pattern(result)
-    assert scale_bar_texts(ax) == ["1 m"]                      # 5 m slab -> 1 m bar
-    blocks = [p for p in ax.patches if isinstance(p, Rectangle) and p.get_gid() == SCALE_BAR_GID]
-    assert len(blocks) == 2
-    assert sum(b.get_width() for b in blocks) == pytest.approx(1.0)   # drawn in data units, m
-    # one black and one white block, so it reads in black and white
-    faces = sorted(tuple(np.round(b.get_facecolor()[:3], 3)) for b in blocks)
-    assert faces == [(0.0, 0.0, 0.0), (1.0, 1.0, 1.0)]
-    # below the slab and inside the axes limits
-    outline = np.asarray(result.model.slab.outline)
-    y_top = max(b.get_y() + b.get_height() for b in blocks)
-    assert y_top < outline[:, 1].min()
-    assert ax.get_ylim()[0] < min(b.get_y() for b in blocks)
-    assert ax.get_xlabel() == "x (m)" and ax.get_ylabel() == "y (m)"
-
-
-def test_plot_deflection_contours_labels_and_colour_bar(result):
-    fig = new_figure()
-    ax = fig.add_subplot()
-    assert plot_deflection(result, ax=ax) is ax
-    sets = [c for c in ax.collections if isinstance(c, ContourSet)]
-    filled = [c for c in sets if c.filled]
-    lines = [c for c in sets if not c.filled]
-    assert len(filled) == 1 and len(lines) == 1
-    assert filled[0].levels[0] == pytest.approx(0.0) and filled[0].levels[-1] == pytest.approx(1.0)
-    # the field plotted is w / max(w): its largest value is 1 and it reaches the top band
-    assert float(np.max(filled[0].get_array())) > 0.85
-    assert len(lines[0].labelTexts) >= 1
-    assert all(t.get_text() in {"0.2", "0.4", "0.6", "0.8"} for t in lines[0].labelTexts)
-    colour_bars = [a for a in fig.axes if a is not ax]
-    assert len(colour_bars) == 1 and colour_bars[0].get_ylabel() == W_RATIO_LABEL
-    assert ax.get_aspect() == 1.0
-    assert ax.get_xlabel() == "x (m)" and ax.get_ylabel() == "y (m)"
-    assert scale_bar_texts(ax) == ["1 m"]
-    assert [p for p in ax.patches if p.get_label() == "_opening"], "opening drawn"
-    edge_labels = {c.get_label() for c in ax.collections}
-    assert {"_edge_simple", "_edge_continuous", "_edge_free", "_opening_edge"} <= edge_labels
-    assert f"load factor = {result.load_factor:.3f}" in ax.get_title()
-
-
-def test_plot_deflection_makes_its_own_figure(result):
-    ax = plot_deflection(result)
-    assert isinstance(ax, Axes)
-    assert tuple(ax.figure.get_size_inches()) == (7.0, 5.5)
-    ax.figure.canvas.draw()                                   # renders without a display
-
-
-def test_plot_deflection_3d_surface_sags_downward(result):
-    ax = plot_deflection_3d(result)
-    assert ax.name == "3d"
-    surfaces = [c for c in ax.collections if isinstance(c, Poly3DCollection)]
-    assert len(surfaces) == 1
-    ax.figure.canvas.draw()                                   # projects the facets; no display needed
-    assert len(surfaces[0].get_paths()) == len(result.mechanism.triangles)
-    # shaded light grey: every facet is a grey (r = g = b), none darker than mid grey
-    faces = surfaces[0].get_facecolor()[:, :3]
-    assert np.allclose(faces, faces[:, :1]) and faces.min() > 0.3 and faces.max() <= 0.83
-    # drawn below the support plane: z from -1 (largest w) to 0, with the axis labelled downward
-    lo, hi = ax.get_zlim()
-    assert lo == pytest.approx(-1.0) and hi >= 0.0
-    assert "w / w_max" in ax.get_zlabel()
-    assert [t.get_text() for t in ax.get_zticklabels()] == ["1.0", "0.5", "0"]
-    # outline and opening drawn at z = 0
-    assert len(ax.lines) == 1 + len(result.model.slab.openings)
-    for line in ax.lines:
-        assert np.allclose(line.get_data_3d()[2], 0.0)
-
-
-def test_plot_deflection_3d_uses_given_3d_axes_and_rejects_2d(result):
-    fig = new_figure()
-    ax3 = fig.add_subplot(1, 2, 1, projection="3d")
-    assert plot_deflection_3d(result, ax=ax3) is ax3
-    ax2 = fig.add_subplot(1, 2, 2)
-    with pytest.raises(ValueError, match="3-D"):
-        plot_deflection_3d(result, ax=ax2)
-
-
-def test_plan_draws_supports_zones_and_loads():
-    # Columns and walls, zones, patches, line and point loads each leave their own artist.
-    from hingeline import model_from_toml, solve
-    from hingeline.outputs.plots import plot_pattern
-
-    r = solve(model_from_toml("""
-[slab]
-outline = [[0, 0], [5, 0], [5, 4], [0, 4]]
-edges = "simple"
-[[column]]
-at = [2.5, 2.0]
-size = [0.3, 0.3]
-[[zone]]
-name = "band"
-polygon = [[2.0, 0.0], [3.0, 0.0], [3.0, 4.0], [2.0, 4.0]]
-sagging = 20.0
-[capacity]
-sagging = 10.0
-[[load]]
-type = "area"
-value = 2.0
-region = [[0.5, 0.5], [1.5, 0.5], [1.5, 1.5], [0.5, 1.5]]
-[[load]]
-type = "line"
-value = 3.0
-path = [[3.5, 1.0], [4.5, 3.0]]
-[[load]]
-type = "point"
-value = 5.0
-at = [1.0, 3.0]
-[analysis]
-resolution = "coarse"
-"""))
-    ax = plot_pattern(r)
-    labels = {a.get_label() for a in [*ax.patches, *ax.lines]}
-    assert {"_support", "_zone", "_load_patch", "_line_load", "_point_load"} <= labels
-    assert "band" in {t.get_text() for t in ax.texts}
-
-
-def test_plot_utilisation_shades_the_yield_ratio_with_a_colour_bar(result):
-    lb = result.lower_bound
-    assert lb is not None and lb.load_factor is not None and lb.field is not None
-    fig = new_figure()
-    ax = fig.add_subplot()
-    assert plot_utilisation(result, ax=ax) is ax
-    meshes = [c for c in ax.collections if isinstance(c, TriMesh)]
-    assert len(meshes) == 1
-    values = np.asarray(meshes[0].get_array())
-    t = len(lb.field.triangles)
-    assert values.shape == (6 * t,)                             # the 6 node points of every triangle
-    assert len(meshes[0].get_paths()) == 4 * t                  # each triangle split into 4
-    assert values.min() >= 0.0 and values.max() <= 1.0
-    # the lower bound's optimum uses the full capacity somewhere, and the node values lie
-    # within the control values the re-check bounds (a quadratic stays in their hull)
-    assert values.max() > 0.95
-    assert values.max() <= lb.check.yield_ratio + 1e-9
-    assert values.min() < 0.5                                   # not a uniform wash
-    colour_bars = [a for a in fig.axes if a is not ax]
-    assert len(colour_bars) == 1 and colour_bars[0].get_ylabel() == UTILISATION_LABEL
-    title = ax.get_title()
-    assert f"lower bound {lb.load_factor:.4f}" in title
-    assert f"upper bound {result.load_factor:.4f}" in title
-    assert f"gap {100 * result.gap:.1f} %" in title
-    assert scale_bar_texts(ax) == ["1 m"]
-    assert {"_edge_simple", "_edge_continuous", "_edge_free", "_opening_edge"} <= {c.get_label() for c in ax.collections}
-    fig.canvas.draw()
-
-
-def test_plot_utilisation_without_lower_bound_draws_the_plan_and_says_so(result):
-    bare = dataclasses.replace(result, lower_bound=None)
-    ax = plot_utilisation(bare)
-    fig = ax.figure
-    assert isinstance(fig, Figure) and len(fig.axes) == 1      # no colour bar
-    assert not [c for c in ax.collections if isinstance(c, TriMesh)]
-    texts = [t for t in ax.texts if NO_LOWER_BOUND_TEXT in t.get_text()]
-    assert len(texts) == 1 and texts[0].get_ha() == "center" and texts[0].get_va() == "center"
-    assert "lower bound not computed" in ax.get_title()
-    assert {"_edge_simple", "_edge_continuous", "_edge_free"} <= {c.get_label() for c in ax.collections}
-    fig.canvas.draw()
-    # a lower-bound stage that found no field: its reason is shown too
-    failed = dataclasses.replace(result, lower_bound=dataclasses.replace(
-        result.lower_bound, load_factor=None, field=None, reason="solver stopped"))
-    ax = plot_utilisation(failed)
-    assert any(NO_LOWER_BOUND_TEXT in t.get_text() and "solver stopped" in t.get_text() for t in ax.texts)
+def test_drawing_never_loads_pyplot():
+    # pyplot keeps global figure state and may pick a display backend; the drawings use a
+    # Figure with the Agg canvas only (matplotlib's documented way for non-interactive use)
+    code = ("import sys\n"
+            "from hingeline.outputs import plots\n"
+            "from hingeline.outputs.drawing import add_caution_footer, file_figure, new_axes\n"
+            "new_axes(); new_axes('3d'); fig = file_figure(); add_caution_footer(fig); fig.canvas.draw()\n"
+            "print('matplotlib.pyplot' in sys.modules)\n")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "False"

@@ -106,7 +106,7 @@ def test_report_states_load_factor_loads_and_cautions(coarse_report):
     v.feed(text)
     lf = v.ids["load-factor"]
     assert np.isfinite(lf) and lf > 0
-    assert f"{lf:.3f}" in text
+    assert f"{lf:#.4g}" in text
     assert "upper bound" in text
     for load in model.loads:
         assert f"<td>{load.name}</td>" in text
@@ -136,12 +136,14 @@ def test_report_lower_bound_section(coarse_report):
     lf, lower, gap = v.ids["load-factor"], v.ids["lower-bound"], v.ids["gap"]
     assert 0 < lower <= lf * (1 + 1e-6)
     assert gap == pytest.approx((lf - lower) / lf, rel=1e-9)
-    assert f"λ<sub>lower</sub> = {lower:.4f}" in text and f"{100 * gap:.1f} %" in text
+    assert f"λ<sub>lower</sub> = {lower:#.5g}" in text and f"{100 * gap:.1f} %" in text
     check = _rows(v, "lower-bound-check")            # one row per quantity of the re-check
     assert len(check) == 8
     relative, ratio, ratio_points = check[5][0], check[6][0], check[7][0]
     assert relative <= 1e-6 and ratio <= 1.0 and ratio_points <= ratio + 1e-9
     assert "Krabbenhoft and Damkilde" in text and "Nielsen and Hoang" in text
+    # the template's own markup (subscripts in the re-check table) is printed as markup, not escaped
+    assert "normal moment m<sub>n</sub> across a side" in text and "&lt;sub&gt;" not in text
     section = text[text.index("7. Lower bound"):text.index("8. Cautions")]
     assert 'alt="Utilisation of the lower-bound moment field" src="data:image/svg+xml;base64,' in section
 
@@ -209,7 +211,7 @@ def test_cli_report_writes_page_and_convergence_table(tmp_path, capsys):
     conv = _rows(v, "convergence")                  # coarse and normal, one load factor each
     assert len(conv) == 2
     assert all(np.isfinite(r[0]) and r[0] > 0 for r in conv)
-    # issue 4: each resolution's lower bound sits beside its load factor, and below it
+    # each resolution's lower bound sits beside its load factor, and below it
     assert all(0 < r[1] <= r[0] for r in conv)
     assert list(out.iterdir()) == [page]            # no temporary files left
 

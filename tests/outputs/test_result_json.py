@@ -236,7 +236,7 @@ def test_plot_pattern_draws_yield_lines_and_returns_axes():
     sag, hog = yl["yield lines (sagging)"], yl["yield lines (hogging)"]
     assert not np.allclose(sag.get_colors()[0], hog.get_colors()[0])
     assert sag.get_linestyle()[0] != hog.get_linestyle()[0]
-    assert "load factor = " + f"{pyramid_result(True).load_factor:.3f}" in ax.get_title()
+    assert "load factor = " + f"{pyramid_result(True).load_factor:#.4g}" in ax.get_title()
     assert ax.get_xlabel() == "x (m)" and ax.get_ylabel() == "y (m)"
     assert ax.get_aspect() == 1.0
     assert ax.get_legend() is not None

@@ -6,7 +6,7 @@ from pathlib import Path
 
 from ..errors import HingelineError
 from ..outputs.result_json import certificate_agrees
-from ..result import Result
+from ..result import Result, load_factor_text
 
 
 class OutputError(HingelineError):
@@ -24,13 +24,13 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
         p(result.model.title)
     lowers = result.case_lower_bounds or (None,) * len(result.cases)
     for (name, lf), lb in zip(result.cases, lowers):
-        lb_text = f"  lower bound {lb:.4f}" if lb is not None else ""
-        p(f"  case {name!r:30s} load factor {lf:.4f}{lb_text}{'  <- governs' if name == result.case else ''}")
+        lb_text = f"  lower bound {load_factor_text(lb)}" if lb is not None else ""
+        p(f"  case {name!r:30s} load factor {load_factor_text(lf)}{lb_text}{'  <- governs' if name == result.case else ''}")
     governing = f" (load case {result.case!r})" if result.case else ""
-    p(f"load factor = {result.load_factor:.4f}{governing}  (upper bound: collapse factor of the mechanism found)")
+    p(f"load factor = {load_factor_text(result.load_factor)}{governing}  (upper bound: collapse factor of the mechanism found)")
     lb = result.lower_bound
     if lb is not None and lb.load_factor is not None:
-        p(f"lower bound = {lb.load_factor:.4f}  (lower-bound theorem: a moment field in equilibrium and "
+        p(f"lower bound = {load_factor_text(lb.load_factor)}  (lower-bound theorem: a moment field in equilibrium and "
           f"inside the capacities); gap {100 * result.gap:.2f} % of the load factor")
         p(f"  lower bound field re-checked: equilibrium residual {lb.check.relative:.1e} (relative), "
           f"largest yield ratio {lb.check.yield_ratio:.8f} (<= 1 inside the capacities); {lb.seconds:.2f} s")

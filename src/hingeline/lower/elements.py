@@ -1,52 +1,26 @@
-"""Lower-bound stage: a statically admissible moment field from equilibrium finite elements.
+"""Shared definitions of the lower bound's equilibrium elements: triangle geometry, the
+quadratic moment field and its Bernstein-Bezier control values, capacities and loads per
+triangle, the sides of the slab triangles in their own frames, point loads at nodes, the
+coefficients of m_n, m_nt and the Kirchhoff shear V_n in terms of the control values, and
+which sides and triangles get the special yield conditions used where there are no top bars
+(zero-moment sides; triangles checked through the scaled tensor, see cones.py).
 
-By the lower-bound theorem, a moment field that is in equilibrium with lambda times the
-factored loads (plus the held loads) and nowhere outside the yield criterion proves that
-the slab carries lambda. We look for the best such field on the triangles of the analysis
-mesh that lie in the slab, as a linear program solved with HiGHS:
-
-- Per triangle, m_x, m_y and m_xy are quadratic, each held as its 6 Bernstein-Bezier
-  control values (3 at the vertices, 3 on the sides). Unknowns: 18 per triangle, and lambda.
-- Equilibrium in each triangle: m_x,xx + 2 m_xy,xy + m_y,yy + p = 0 (constant there).
-- Across every inner side: the normal moment m_n is continuous (its 3 control values agree)
-  and the Kirchhoff shear V_n = Q_n + dm_nt/dt balances (at both ends; it is linear), with
-  a line load q: V_n(1) + V_n(2) = q, each in the side's own outward frame.
-- At every node not on a support: the corner forces from the jumps of m_nt balance,
-  sum over triangles of (m_nt of the side arriving - m_nt of the side leaving) = -P.
-- Boundary sides: free edges and openings m_n = 0 and V_n = q; simply supported edges and
-  pinned faces of columns and walls m_n = 0; continuous edges and monolithic faces
-  -fixity m'_n <= m_n <= 0 (hogging restraint only, as the upper bound assumes).
-- Yield: the Johansen/Nielsen criterion in the bar axes, (m_p1 - m_1)(m_p2 - m_2) >= m_12^2
-  and (m_n1 + m_1)(m_n2 + m_2) >= m_12^2 with both factors >= 0, imposed at the 6 control
-  values of each triangle: a quadratic triangle lies in the convex hull of its control
-  values and the criterion is convex, so the field is admissible everywhere, not only
-  where checked. Each branch is a rotated quadratic cone: with a, b the two factors,
-  u = a + b >= |(a - b, 2 m_12)|. We impose u (1 - CONE_MARGIN) >= |(a - b, 2 m_12)|, a cone
-  just inside the true one, so that the solver's tolerance cannot carry the field outside.
-
-Solver: the problem is a second-order cone program, solved by Clarabel's interior point
-method. We first wrote it as the linear program the literature uses (the circle replaced by
-an inscribed 32-gon) for HiGHS: the clamped square at "normal" took 463 s in HiGHS's
-interior point (dual simplex and PDLP did not finish the coarse mesh in 120 s), against
-1.4 s for the cone program in Clarabel, which also drops the polygon's loss (1.0 % -> 0.4 %
-below Fox's value on that case). The answer is re-checked afterwards (fieldcheck.py), with
-the exact criterion, from the field alone.
+Per triangle, m_x, m_y and m_xy are quadratic, each held as its 6 Bernstein-Bezier control
+values (3 at the vertices, 3 on the sides). A quadratic triangle lies in the convex hull of
+its control values, which is what lets the yield criterion be checked at those 6 values.
+The cone program (program.py) and the independent re-check of its answer (fieldcheck.py)
+both build on these definitions.
 
 Signs: w and loads positive downward; sagging moments positive (tension at the bottom).
-Units: m, kN, kNm/m, kPa. References: Krabbenhoft and Damkilde, Computers & Structures 80
-(2002), lower-bound limit analysis of slabs with quadratic equilibrium elements; Nielsen and
-Hoang, Limit Analysis and Concrete Plasticity (3rd ed., 2011), for the yield criterion.
+Units: m, kN, kNm/m, kPa.
+May import: `hingeline.model`, `hingeline.geometry`, `hingeline.errors`; never `hingeline.upper`.
 """
 from __future__ import annotations
 
-import logging
-import time
 from dataclasses import dataclass
 
-import clarabel
 import numpy as np
 import shapely
-from scipy import sparse
 
 from ..errors import SolverError
 from ..geometry.domain import (
@@ -55,18 +29,10 @@ from ..geometry.domain import (
     HOGGING_SUPPORT,
     OPENING,
     SIMPLE,
-    SUPPORTED,
     Domain,
     segment_distance,
 )
 from ..model import AreaLoad, LineLoad, Model, PointLoad
-from ..model.criterion import normal_capacity
-
-log = logging.getLogger(__name__)
-
-# Relative margin by which the imposed cone lies inside the true yield cone, so that
-# solver tolerances (about 1e-8) cannot carry the field outside the true criterion.
-CONE_MARGIN = 1e-6
 
 # Control points of a quadratic triangle: vertices 0, 1, 2 then sides (0,1), (1,2), (2,0).
 SIDES = np.array([[0, 1], [1, 2], [2, 0]])
@@ -230,7 +196,7 @@ def triangle_sides(nodes: np.ndarray, tri: np.ndarray, domain: Domain, model: Mo
     return Sides(tri_of, local, a, b, normal, tangent, length, partner, kind, fixity, line_load)
 
 
-def _gradients(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def gradients(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Barycentric gradients g (t, 3, 2) in 1/m and areas (t,) in m^2 of CCW triangles p (t, 3, 2)."""
     area2 = twice_area(p)
     g = np.empty((len(p), 3, 2))
@@ -287,67 +253,6 @@ def kirchhoff_coeffs(grad: np.ndarray, n: np.ndarray, t: np.ndarray) -> np.ndarr
                      n[:, None, 0] * gy + n[:, None, 1] * gx + tw[:, None, 2] * gt], axis=2)
 
 
-class _Rows:
-    """Sparse rows A x (= or <=) rhs, collected as (row, col, value) triplets."""
-
-    def __init__(self, ncol: int):
-        self.ncol = ncol
-        self.r, self.c, self.v, self.rhs = [], [], [], []
-        self.n = 0
-
-    def add(self, cols: np.ndarray, vals: np.ndarray, rhs) -> None:
-        """cols, vals: (k, w) entries of k new rows; rhs: (k,) or a scalar."""
-        k = len(cols)
-        self.add_triplets(np.repeat(np.arange(k), cols.shape[1]), np.asarray(cols).ravel(),
-                          np.asarray(vals, float).ravel(), np.broadcast_to(np.asarray(rhs, float), (k,)))
-
-    def add_triplets(self, row: np.ndarray, col: np.ndarray, val: np.ndarray, rhs: np.ndarray) -> None:
-        """len(rhs) new rows with entries (row, col, val), row counted from 0 for the first new row."""
-        self.r.append(row + self.n)
-        self.c.append(col)
-        self.v.append(val)
-        self.rhs.append(rhs)
-        self.n += len(rhs)
-
-    def matrix(self) -> tuple[sparse.csr_matrix, np.ndarray]:
-        if not self.n:
-            return sparse.csr_matrix((0, self.ncol)), np.zeros(0)
-        a = sparse.csr_matrix((np.concatenate(self.v), (np.concatenate(self.r), np.concatenate(self.c))),
-                              shape=(self.n, self.ncol))
-        a.sum_duplicates()
-        a.eliminate_zeros()
-        return a, np.concatenate(self.rhs)
-
-
-@dataclass(frozen=True, eq=False)
-class ConeProgram:
-    """maximise x[lam] subject to eq @ x = eq_rhs, ineq @ x <= ineq_rhs, x[lam] >= 0 and
-    cone_rhs - cone @ x in a product of 3-dimensional second-order cones (u >= |(v, w)|).
-    Columns: 18 control values per triangle (control k, component c at 18 t + 3 k + c), lambda."""
-
-    eq: sparse.csr_matrix
-    eq_rhs: np.ndarray
-    ineq: sparse.csr_matrix
-    ineq_rhs: np.ndarray
-    cone: sparse.csr_matrix
-    cone_rhs: np.ndarray
-    lam: int
-
-
-@dataclass(frozen=True, eq=False)
-class LowerBoundSolution:
-    """load_factor: the lower bound (None when no admissible field was found).
-    field: the moment field (node values), or None. rows, cols: size of the cone program.
-    seconds: time of assembly and solve. status: Clarabel's status in words."""
-
-    load_factor: float | None
-    field: MomentField | None
-    rows: int
-    cols: int
-    seconds: float
-    status: str
-
-
 def point_loads_at_nodes(model: Model, nodes: np.ndarray, tol: float) -> np.ndarray:
     """(n, 2) point loads (factored, held) in kN at each node; every point load sits on a node."""
     out = np.zeros((len(nodes), 2))
@@ -362,134 +267,49 @@ def point_loads_at_nodes(model: Model, nodes: np.ndarray, tol: float) -> np.ndar
     return out
 
 
-def assemble(model: Model, domain: Domain, nodes: np.ndarray, tri: np.ndarray) -> ConeProgram:
-    """The lower-bound problem on the slab triangles tri (t, 3), counter-clockwise."""
-    t = len(tri)
-    ncol = 18 * t + 1
-    lam = 18 * t
-    p = nodes[tri]
-    g, _ = _gradients(p)
-    rows = _Rows(ncol)
-    ineq = _Rows(ncol)
-    centroids = p.mean(axis=1)
-    pf, ph = element_loads(model, domain, centroids)
-
-    # Equilibrium: sum_k H_k:(m_x, 2 m_xy, m_y) + lambda pf + ph = 0.
-    h = hessians(g)
-    coef = np.stack([h[:, :, 0, 0], h[:, :, 1, 1], 2.0 * h[:, :, 0, 1]], axis=2).reshape(t, 18)
-    cols = np.concatenate([18 * np.arange(t)[:, None] + np.arange(18), np.full((t, 1), lam)], axis=1)
-    rows.add(cols, np.concatenate([coef, pf[:, None]], axis=1), -ph)
-
-    sd = triangle_sides(nodes, tri, domain, model)
-    i_loc, j_loc = SIDES[sd.local, 0], SIDES[sd.local, 1]
-    ctrl = np.stack([i_loc, PAIR[i_loc, j_loc], j_loc], axis=1)        # (s, 3) control values along the side
-    mn = normal_moment_coeffs(sd.normal)                               # (s, 3)
-    vg = vertex_gradients(g)                                           # (t, 3, 6, 2)
-    v_start = kirchhoff_coeffs(vg[sd.tri, i_loc], sd.normal, sd.tangent)   # (s, 6, 3)
-    v_end = kirchhoff_coeffs(vg[sd.tri, j_loc], sd.normal, sd.tangent)
-    all18 = 18 * sd.tri[:, None] + np.arange(18)                          # (s, 18)
-
-    # Inner sides, once each (s < partner): m_n control values agree, V_n balance at both ends.
-    inner = np.flatnonzero(sd.partner > np.arange(len(sd.tri)))
-    o = sd.partner[inner]
-    for k in range(3):
-        # The partner runs the other way: its control k is ours 2 - k.
-        c1 = 18 * sd.tri[inner, None] + 3 * ctrl[inner, k, None] + np.arange(3)
-        c2 = 18 * sd.tri[o, None] + 3 * ctrl[o, 2 - k, None] + np.arange(3)
-        rows.add(np.concatenate([c1, c2], axis=1), np.concatenate([mn[inner], -mn[o]], axis=1), 0.0)
-    q = sd.line_load
-    for mine, theirs in ((v_start, v_end), (v_end, v_start)):
-        # Our start is the partner's end.
-        qf = q[inner, 0] + q[o, 0]
-        qh = q[inner, 1] + q[o, 1]
-        cols = np.concatenate([all18[inner], all18[o], np.full((len(inner), 1), lam)], axis=1)
-        vals = np.concatenate([mine[inner].reshape(-1, 18), theirs[o].reshape(-1, 18), -qf[:, None]], axis=1)
-        rows.add(cols, vals, qh)
-
-    # Boundary sides.
-    free = np.flatnonzero(np.isin(sd.kind, (FREE, OPENING)))
-    zero_mn = np.flatnonzero(np.isin(sd.kind, (FREE, OPENING, SIMPLE, FACE_PINNED)))
-    for k in range(3):
-        c = 18 * sd.tri[zero_mn, None] + 3 * ctrl[zero_mn, k, None] + np.arange(3)
-        rows.add(c, mn[zero_mn], 0.0)
-    for vk in (v_start, v_end):
-        cols = np.concatenate([all18[free], np.full((len(free), 1), lam)], axis=1)
-        vals = np.concatenate([vk[free].reshape(-1, 18), -q[free, 0, None]], axis=1)
-        rows.add(cols, vals, q[free, 1])
-    # Continuous edges and monolithic faces: -fixity m'_n <= m_n <= 0. The support restrains
-    # hogging only, as in the upper bound, where rotation the other way costs nothing.
-    cap = element_capacities(model, centroids)
-    held = np.flatnonzero(np.isin(sd.kind, HOGGING_SUPPORT))
-    cap_held = cap[sd.tri[held]]
-    hog = normal_capacity((cap_held[:, 2], cap_held[:, 3]), model.capacity.bar_angle, sd.normal[held])
-    for k in range(3):
-        c = 18 * sd.tri[held, None] + 3 * ctrl[held, k, None] + np.arange(3)
-        ineq.add(c, -mn[held], sd.fixity[held] * hog)
-        ineq.add(c, mn[held], 0.0)
-
-    # Corner forces at nodes off the supports: sum of (m_nt arriving - m_nt leaving) = -P.
-    supported = np.zeros(len(nodes), bool)
-    sup = np.isin(sd.kind, SUPPORTED)
-    supported[sd.a[sup]] = supported[sd.b[sup]] = True
-    tw = twist_coeffs(sd.normal, sd.tangent)                         # (s, 3)
-    # Side s arrives at its end node b (control j_loc) and leaves its start node a (control i_loc).
-    node = np.concatenate([sd.b, sd.a])
-    cols = np.concatenate([18 * sd.tri[:, None] + 3 * j_loc[:, None] + np.arange(3),
-                           18 * sd.tri[:, None] + 3 * i_loc[:, None] + np.arange(3)])
-    vals = np.concatenate([tw, -tw])
-    keep = ~supported[node]
-    used = np.unique(node[keep])
-    row_of = np.full(len(nodes), -1)
-    row_of[used] = np.arange(len(used))
-    pts = point_loads_at_nodes(model, nodes, 1e-7 * domain.scale)
-    rows.add_triplets(np.concatenate([np.repeat(row_of[node[keep]], 3), np.arange(len(used))]),
-                      np.concatenate([cols[keep].ravel(), np.full(len(used), lam)]),
-                      np.concatenate([vals[keep].ravel(), pts[used, 0]]), -pts[used, 1])
-
-    # Yield at every control value: per branch (u, v, w) = const + K (m_1, m_2, m_12) in a cone,
-    # positive branch a = m_p1 - m_1, b = m_p2 - m_2; negative a = m_n1 + m_1, b = m_n2 + m_2.
-    R = bar_rotation(model.capacity.bar_angle)                       # (m1, m2, m12) = R m
-    npts = 6 * t
-    capp = np.repeat(cap, 6, axis=0)                                 # (6t, 4)
-    shrink = np.array([1.0 - CONE_MARGIN, 1.0, 1.0])
-    blocks, rhs = [], []
-    for sign, c1, c2 in ((-1.0, 0, 1), (1.0, 2, 3)):
-        K = shrink[:, None] * (np.array([[sign, sign, 0.0], [sign, -sign, 0.0], [0.0, 0.0, 2.0]]) @ R)
-        const = shrink * np.stack([capp[:, c1] + capp[:, c2], capp[:, c1] - capp[:, c2], np.zeros(npts)], axis=1)
-        r = np.repeat(np.arange(3 * npts), 3)
-        c = np.tile(np.arange(3), 3 * npts) + 3 * np.repeat(np.arange(npts), 9)
-        # The solver's form is s = rhs - A x in the cone, so A = -K.
-        blocks.append(sparse.csr_matrix((np.tile(-K.ravel(), npts), (r, c)), shape=(3 * npts, ncol)))
-        rhs.append(const.ravel())
-    eq, eq_rhs = rows.matrix()
-    iq, iq_rhs = ineq.matrix()
-    return ConeProgram(eq, eq_rhs, iq, iq_rhs, sparse.vstack(blocks).tocsr(), np.concatenate(rhs), lam)
+# Boundary kinds with free edges' conditions (m_n = 0, V_n = q), and all kinds with m_n = 0.
+FREE_KINDS = (FREE, OPENING)
+ZERO_MN_KINDS = (FREE, OPENING, SIMPLE, FACE_PINNED)
 
 
-def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles: np.ndarray) -> LowerBoundSolution:
-    """Best statically admissible field on the slab triangles of the mesh (nodes, triangles)."""
-    t0 = time.perf_counter()
-    tri = slab_triangles(nodes, triangles, domain)
-    prob = assemble(model, domain, nodes, tri)
-    ncol = prob.lam + 1
-    lam_row = sparse.csr_matrix(([-1.0], ([0], [prob.lam])), shape=(1, ncol))   # -lambda <= 0
-    A = sparse.vstack([prob.eq, prob.ineq, lam_row, prob.cone]).tocsc()
-    b = np.concatenate([prob.eq_rhs, prob.ineq_rhs, [0.0], prob.cone_rhs])
-    cones = [clarabel.ZeroConeT(prob.eq.shape[0]), clarabel.NonnegativeConeT(prob.ineq.shape[0] + 1)]
-    cones += [clarabel.SecondOrderConeT(3)] * (prob.cone.shape[0] // 3)
-    cost = np.zeros(ncol)
-    cost[prob.lam] = -1.0
-    settings = clarabel.DefaultSettings()
-    settings.verbose = False
-    solver = clarabel.DefaultSolver(sparse.csc_matrix((ncol, ncol)), cost, A, b, cones, settings)
-    sol = solver.solve()
-    seconds = time.perf_counter() - t0
-    word = str(sol.status)
-    log.info("lower bound: %d rows, %d columns, %s, %.2f s", A.shape[0], ncol, word, seconds)
-    # "AlmostSolved" (reduced accuracy) is kept: fieldcheck.py decides whether the field holds.
-    if word not in ("Solved", "AlmostSolved"):
-        return LowerBoundSolution(None, None, A.shape[0], ncol, seconds, word)
-    x = np.asarray(sol.x)
-    controls = x[:prob.lam].reshape(len(tri), 6, 3)
-    field = MomentField(nodes, tri, node_values(controls))
-    return LowerBoundSolution(float(x[prob.lam]), field, A.shape[0], ncol, seconds, word)
+def no_top_bars(cap: np.ndarray) -> np.ndarray:
+    """(t,) True where a triangle has no hogging capacity in either bar direction (cap (t, 4))."""
+    return (cap[:, 2] == 0.0) & (cap[:, 3] == 0.0)
+
+
+def zero_moment_sides(sd: Sides, cap: np.ndarray) -> np.ndarray:
+    """(s,) True for boundary sides of triangles without top bars where m_n = 0: free edges,
+    openings, simple supports and pinned faces, and also continuous edges and monolithic faces,
+    whose restraint -fixity m'_n <= m_n <= 0 closes to m_n = 0 when m'_n = 0. There the
+    hogging branch of the criterion (M positive semi-definite) leaves m_nt = 0 and m_t >= 0."""
+    return np.isin(sd.kind, (*ZERO_MN_KINDS, *HOGGING_SUPPORT)) & no_top_bars(cap)[sd.tri]
+
+
+def scaled_check_sides(sd: Sides, cap: np.ndarray) -> np.ndarray:
+    """(t,) for each triangle the side (index into sd) whose scaled tensor is checked for
+    yield instead of the moments themselves, or -1.
+
+    Chosen: triangles without top bars whose only zero-moment side (zero_moment_sides) is a
+    free edge or an opening side with no line load on it. There m_n and m_nt vanish on the
+    side and V_n = m_n,n + 2 m_nt,t = 0 there, so m_n = O(lambda^2) and m_nt = O(lambda),
+    lambda the barycentric coordinate of the opposite vertex: N = D^-1 M D^-1 with
+    D = diag(1, lambda) in the side's (t, n) frame is a quadratic polynomial, and N positive
+    semi-definite at its control values gives M positive semi-definite on the whole triangle.
+    """
+    t = len(cap)
+    zero = zero_moment_sides(sd, cap)
+    count = np.bincount(sd.tri[zero], minlength=t)
+    free = zero & np.isin(sd.kind, FREE_KINDS) & np.all(sd.line_load == 0.0, axis=1)
+    pick = np.flatnonzero(free & (count[sd.tri] == 1))
+    out = np.full(t, -1)
+    out[sd.tri[pick]] = pick
+    return out
+
+
+def scaled_controls(local: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Control indices (m,) for triangles checked on side `local` (m,) (0, 1, 2):
+    i, j (its start and end vertices), v (the opposite vertex), ij (its own side control),
+    iv, jv (the controls of the other two sides, one step off it)."""
+    i, j = SIDES[local, 0], SIDES[local, 1]
+    v = 3 - i - j
+    return i, j, v, PAIR[i, j], PAIR[i, v], PAIR[j, v]

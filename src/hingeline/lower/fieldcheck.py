@@ -17,6 +17,14 @@ admissibility is evaluated at points:
 - the exact yield criterion (Nielsen's, in the bar axes) as a ratio: the smallest s with
   the field inside s times the capacities, at the control values (which bound the field)
   and at 10 points of each triangle (a barycentric grid of step 1/3, corners included).
+  In triangles along a free edge without top bars (elements.scaled_check_sides) the
+  hogging branch is proven instead on N = D^-1 M D^-1, D = diag(1, lambda) in the edge's
+  (t, n) frame, lambda the barycentric coordinate of the opposite vertex: M is split into
+  D N D, N quadratic, and a remainder R made of the control values that the structure
+  requires to vanish (m_n and m_nt on the edge, m_n one step off it). N + s eps I positive
+  semi-definite at its control values gives M + (s eps + |R|) I positive semi-definite on
+  the whole triangle (D^2 <= I, |R| bounded by its largest control value), eps being the
+  floored hogging capacity; that sum over eps is the ratio reported there.
 
 Units: m, kN, kNm/m, kPa; sagging positive.
 """
@@ -27,17 +35,21 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from ..geometry.domain import FACE_PINNED, FREE, HOGGING_SUPPORT, OPENING, SIMPLE, SUPPORTED, Domain
+from ..geometry.domain import HOGGING_SUPPORT, SUPPORTED, Domain
 from ..model import AreaLoad, LineLoad, Model
 from ..model.criterion import normal_capacity
 from .elements import (
+    FREE_KINDS,
     SIDES,
+    ZERO_MN_KINDS,
     MomentField,
     bar_rotation,
     control_values,
     element_capacities,
     element_loads,
     point_loads_at_nodes,
+    scaled_check_sides,
+    scaled_controls,
     triangle_sides,
     twice_area,
 )
@@ -58,7 +70,8 @@ class FieldCheck:
     field's triangles, sides and nodes against the model's loads on the slab).
     relative: the largest of these, each divided by its scale (load intensity, capacity,
     capacity / element size, capacity, total load).
-    yield_ratio: largest ratio at the control values (<= 1: inside the criterion everywhere);
+    yield_ratio: largest ratio at the control values (<= 1: inside the criterion everywhere;
+        along free edges without top bars, the hogging branch through the scaled tensor);
     yield_ratio_points: largest ratio at 10 grid points of each triangle (<= yield_ratio).
     """
 
@@ -136,16 +149,20 @@ def _kirchhoff(poly, tri, pts, n, t):
     return qx * n[:, 0] + qy * n[:, 1] + dmnt
 
 
-def yield_ratio(m: np.ndarray, cap: np.ndarray, bar_angle: float) -> np.ndarray:
+def yield_ratio(m: np.ndarray, cap: np.ndarray, bar_angle: float, hogging: bool = True) -> np.ndarray:
     """Smallest s >= 0 with moments m (k, 3) inside s times the capacities cap (k, 4) =
     (m_p1, m_p2, m_n1, m_n2) under Nielsen's criterion; inf if no s does (e.g. hogging
-    where there are no top bars). Found by bisection (the scaled sets are nested)."""
+    where there are no top bars). Found by bisection (the scaled sets are nested).
+    hogging=False: the sagging branch alone."""
     m1, m2, m12 = (m @ bar_rotation(bar_angle).T).T
 
     def inside(s):
         a, b = s * cap[:, 0] - m1, s * cap[:, 1] - m2
+        ok = (a >= 0) & (b >= 0) & (a * b >= m12**2)
+        if not hogging:
+            return ok
         c, d = s * cap[:, 2] + m1, s * cap[:, 3] + m2
-        return (a >= 0) & (b >= 0) & (a * b >= m12**2) & (c >= 0) & (d >= 0) & (c * d >= m12**2)
+        return ok & (c >= 0) & (d >= 0) & (c * d >= m12**2)
 
     lo, hi = np.zeros(len(m)), np.full(len(m), 1e6)
     ok0 = inside(lo)
@@ -156,6 +173,30 @@ def yield_ratio(m: np.ndarray, cap: np.ndarray, bar_angle: float) -> np.ndarray:
         hi = np.where(good, mid, hi)
         lo = np.where(good, lo, mid)
     return np.where(ok0, 0.0, np.where(never, np.inf, hi))
+
+
+def _scaled_ratio(ctrl: np.ndarray, local: np.ndarray, n: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """(m,) the smallest h >= 0 (kNm/m) with M + h I positive semi-definite on each triangle,
+    from its control values ctrl (m, 6, 3) through N = D^-1 M D^-1 on side `local` (m,) of
+    outward normal n and tangent t (m, 2), as in the module docstring."""
+    frame = np.stack([t, n], axis=2)                                  # columns t, n
+    M = np.stack([np.stack([ctrl[..., 0], ctrl[..., 2]], -1), np.stack([ctrl[..., 2], ctrl[..., 1]], -1)], -2)
+    tn = np.einsum("kai,kqab,kbj->kqij", frame, M, frame)             # (m, 6, 2, 2) in (t, n)
+    m_t, m_nt, m_n = tn[..., 0, 0], tn[..., 0, 1], tn[..., 1, 1]
+    r = np.arange(len(ctrl))
+    i, j, v, ij, iv, jv = scaled_controls(local)
+    r_nt, r_nn = np.zeros_like(m_nt), np.zeros_like(m_n)
+    for k in (i, j, ij):
+        r_nt[r, k], r_nn[r, k] = m_nt[r, k], m_n[r, k]
+    for k in (iv, jv):
+        r_nn[r, k] = m_n[r, k]
+    remainder = np.abs(r_nn) / 2 + np.hypot(r_nn / 2, r_nt)          # spectral norm of R's control values
+    lin = np.empty((len(ctrl), 3))                                   # m_nt / lambda at the vertices
+    lin[r, i], lin[r, j], lin[r, v] = 2 * m_nt[r, iv], 2 * m_nt[r, jv], m_nt[r, v]
+    n_nt = np.concatenate([lin, 0.5 * (lin[:, SIDES[:, 0]] + lin[:, SIDES[:, 1]])], axis=1)
+    n_nn = m_n[r, v][:, None]
+    low = 0.5 * (m_t + n_nn) - np.hypot(0.5 * (m_t - n_nn), n_nt)    # smallest eigenvalue of N
+    return np.maximum(-low, 0.0).max(axis=1) + remainder.max(axis=1)
 
 
 def check_field(model: Model, domain: Domain, field: MomentField, load_factor: float) -> FieldCheck:
@@ -205,9 +246,9 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     # The partner runs the other way: its point j is our point 4 - j.
     mj = [np.abs(m5[inner] - m5[o][:, ::-1]).ravel()]
     vj = [np.abs(v5[inner] + v5[o][:, ::-1] - (q[inner] + q[o])[:, None]).ravel()]
-    zero_mn = np.isin(sd.kind, (FREE, OPENING, SIMPLE, FACE_PINNED))
+    zero_mn = np.isin(sd.kind, ZERO_MN_KINDS)
     mj.append(np.abs(m5[zero_mn]).ravel())
-    free = np.isin(sd.kind, (FREE, OPENING))
+    free = np.isin(sd.kind, FREE_KINDS)
     vj.append(np.abs(v5[free] - q[free, None]).ravel())
     held = np.flatnonzero(np.isin(sd.kind, HOGGING_SUPPORT))
     cap_held = element_capacities(model, centroids)[sd.tri[held]]
@@ -230,9 +271,17 @@ def check_field(model: Model, domain: Domain, field: MomentField, load_factor: f
     # A zero capacity (no top bars) is floored at CAPACITY_FLOOR of the largest: the solver meets
     # "m_1 >= 0" only to its tolerance, and a moment of -1e-12 kNm/m must not count as a failure.
     m_ref = float(max(*model.capacity.sagging, *model.capacity.hogging))
-    cap = np.maximum(element_capacities(model, centroids), CAPACITY_FLOOR * m_ref)
+    raw_cap = element_capacities(model, centroids)
+    cap = np.maximum(raw_cap, CAPACITY_FLOOR * m_ref)
     ctrl = control_values(field.moments)
-    ratio_ctrl = yield_ratio(ctrl.reshape(-1, 3), np.repeat(cap, 6, axis=0), model.capacity.bar_angle)
+    ratio_ctrl = yield_ratio(ctrl.reshape(-1, 3), np.repeat(cap, 6, axis=0), model.capacity.bar_angle).reshape(-1, 6)
+    scaled = scaled_check_sides(sd, raw_cap)
+    tau = np.flatnonzero(scaled >= 0)
+    if tau.size:
+        sag = yield_ratio(ctrl[tau].reshape(-1, 3), np.repeat(cap[tau], 6, axis=0), model.capacity.bar_angle,
+                          hogging=False).reshape(-1, 6)
+        hog = _scaled_ratio(ctrl[tau], sd.local[scaled[tau]], sd.normal[scaled[tau]], sd.tangent[scaled[tau]])
+        ratio_ctrl[tau] = np.maximum(sag, (hog / np.minimum(cap[tau, 2], cap[tau, 3]))[:, None])
     bary = np.array([[a, b, 3 - a - b] for a in range(4) for b in range(4 - a)], float) / 3.0
     inside_pts = np.einsum("qv,tvd->tqd", bary, p).reshape(-1, 2)
     tq = np.repeat(np.arange(len(tri)), len(bary))

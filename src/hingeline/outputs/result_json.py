@@ -26,13 +26,15 @@ from typing import Any, Iterable
 import numpy as np
 
 from ..result import CAUTIONS, Result
+from ..upper.certificate import CERTIFICATE_RTOL
+from ..upper.certificate import certificate_agrees as agrees
 
 log = logging.getLogger(__name__)
 
 #: File formats `write_outputs` can render the plots to.
 PLOT_FORMATS = ("png", "pdf", "svg")
 
-#: Plots `write_outputs` writes, as file stem -> plot function name in plot.py
+#: Plots `write_outputs` writes, as file stem -> plot function name in plots.py
 #: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
 #: ratio of the lower-bound moment field, written only when the result has that field).
 PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
@@ -43,8 +45,6 @@ PLOT_DPI = 150
 #: Plot size in inches (fits an A4 page with margins).
 PLOT_SIZE = (7.0, 5.5)
 
-#: Relative tolerance used by `certificate_agrees`.
-CERTIFICATE_RTOL = 1e-6
 
 UNITS = {
     "length": "m",
@@ -229,39 +229,23 @@ def _lower_bound_to_dict(result: Result) -> dict | None:
 
 
 def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
-    """True when the independent re-check matches the solve.
-
-    The re-computed load factor must equal result.load_factor within rtol (relative
-    to max(1, |load factor|)), and the largest |w| on supported edges must be at most
-    rtol times the largest |w| of the mechanism.
-    """
-    lf, chk = float(result.load_factor), result.certificate
-    if not (math.isfinite(lf) and math.isfinite(chk.load_factor)):
-        return False
-    scale = max(1.0, abs(lf))
+    """True when the independent re-check matches the solve: the same test as the solver's
+    warning (upper.certificate.certificate_agrees), on the result's load factor, certificate
+    and mechanism."""
     w = np.asarray(result.mechanism.w, dtype=float)
     w_max = float(np.max(np.abs(w))) if w.size else 0.0
-    return abs(chk.load_factor - lf) <= rtol * scale and chk.max_support_w <= rtol * max(w_max, 1e-300)
+    return agrees(result.load_factor, result.certificate, w_max, rtol)
 
 
 def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
     """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
     from . import plots as plot
+    from .drawing import add_caution_footer, file_figure
 
-    fig = Figure(figsize=PLOT_SIZE, layout="constrained")
-    fig.get_layout_engine().set(rect=(0.0, 0.03, 1.0, 0.97))  # keep a strip for the caution line
-    FigureCanvasAgg(fig)
+    fig = file_figure(PLOT_SIZE)
     ax = fig.add_subplot()
     getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
-    fig.text(
-        0.5, 0.005,
-        "Upper-bound yield-line result. Shear/punching, deflection, ductility and detailing "
-        "not checked; review by a qualified engineer under local codes.",
-        ha="center", va="bottom", fontsize=6, color="0.3",
-    )
+    add_caution_footer(fig)
     buf = io.BytesIO()
     metadata_ = {"Creator": f"hingeline {hingeline_version()}"} if fmt in ("png", "pdf") else None
     fig.savefig(buf, format=fmt, dpi=PLOT_DPI, metadata=metadata_)

@@ -24,6 +24,10 @@ from ..model import Model
 from ..model.criterion import capacity_at, normal_capacity
 
 INTERIOR = -1
+# A segment passing within THROUGH * domain.tol of a third node runs through it: the mechanism
+# stage merges points that close (upper/mechanism.py), so it would bend such a line at the node,
+# a kink it cannot make compatible; the chain of shorter segments represents the line instead.
+THROUGH = 10.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -49,9 +53,11 @@ class Candidates:
         return len(self.a)
 
 
-def _blocked_rows(nodes: np.ndarray, rows: np.ndarray, rel_tol: float) -> tuple[np.ndarray, np.ndarray]:
+def _blocked_rows(nodes: np.ndarray, rows: np.ndarray, rel_tol: float,
+                  dist_tol: float) -> tuple[np.ndarray, np.ndarray]:
     """Pairs (row node, other node) seen from each node of `rows`: the other node lies behind a
-    nearer node on the same ray (within rel_tol of the angle). Returns (a, b) index arrays."""
+    nearer node on the same ray (within rel_tol of the angle, or with the nearer node within
+    dist_tol m of the segment). Returns (a, b) index arrays."""
     n, r = len(nodes), len(rows)
     dx = nodes[None, :, 0] - nodes[rows, 0][:, None]  # dx[k, b] = x_b - x_a, a = rows[k]
     dy = nodes[None, :, 1] - nodes[rows, 1][:, None]
@@ -66,7 +72,9 @@ def _blocked_rows(nodes: np.ndarray, rows: np.ndarray, rel_tol: float) -> tuple[
     dists = np.hypot(xs, ys)
     cross = xs[:, 1:] * ys[:, :-1] - ys[:, 1:] * xs[:, :-1]
     dot = xs[:, 1:] * xs[:, :-1] + ys[:, 1:] * ys[:, :-1]
-    same = (np.abs(cross) <= rel_tol * dists[:, 1:] * dists[:, :-1]) & (dot > 0)
+    # |cross| / the longer distance is how far the nearer node lies from the other's segment.
+    near = np.maximum(rel_tol * np.minimum(dists[:, 1:], dists[:, :-1]), dist_tol)
+    same = (np.abs(cross) <= near * np.maximum(dists[:, 1:], dists[:, :-1])) & (dot > 0)
     del xs, ys, cross, dot
     # Only rows that see two nodes on one ray can block anything.
     hit = np.flatnonzero(same.any(axis=1))
@@ -83,15 +91,17 @@ def _blocked_rows(nodes: np.ndarray, rows: np.ndarray, rel_tol: float) -> tuple[
     return rows[hit[k]], order[hit[k], j]
 
 
-def blocked_keys(nodes: np.ndarray, rows_per_block: int | None = None, rel_tol: float = 1e-9) -> np.ndarray:
+def blocked_keys(nodes: np.ndarray, rows_per_block: int | None = None, rel_tol: float = 1e-9,
+                 dist_tol: float = 0.0) -> np.ndarray:
     """Sorted keys a * n + b (a < b) of the node pairs whose segment passes through a third
-    node, found from either end (few: nodes along straight boundaries). The rows are sorted
-    by angle `rows_per_block` at a time (memory of order rows_per_block x nodes)."""
+    node (within rel_tol of the angle seen from an end, or within dist_tol m), found from
+    either end (few: nodes along straight boundaries). The rows are sorted by angle
+    `rows_per_block` at a time (memory of order rows_per_block x nodes)."""
     n = len(nodes)
     step = n if rows_per_block is None else max(1, rows_per_block)
     keys = [np.zeros(0, np.int64)]
     for start in range(0, n, step):
-        a, b = _blocked_rows(nodes, np.arange(start, min(n, start + step)), rel_tol)
+        a, b = _blocked_rows(nodes, np.arange(start, min(n, start + step)), rel_tol, dist_tol)
         keys.append(np.minimum(a, b).astype(np.int64) * n + np.maximum(a, b))
     return np.unique(np.concatenate(keys))
 
@@ -108,10 +118,10 @@ def pairs_in_rows(n: int, start: int, stop: int, blocked: np.ndarray) -> np.ndar
     return np.stack([rows[k], b], axis=1)
 
 
-def visible_pairs(nodes: np.ndarray, rel_tol: float = 1e-9) -> np.ndarray:
+def visible_pairs(nodes: np.ndarray, rel_tol: float = 1e-9, dist_tol: float = 0.0) -> np.ndarray:
     """Node pairs (a < b) whose segment passes through no third node; (p, 2) int array."""
     n = len(nodes)
-    return pairs_in_rows(n, 0, n, blocked_keys(nodes, rel_tol=rel_tol))
+    return pairs_in_rows(n, 0, n, blocked_keys(nodes, rel_tol=rel_tol, dist_tol=dist_tol))
 
 
 def crossings(p: np.ndarray, q: np.ndarray, edges: np.ndarray, tol: float):
@@ -255,7 +265,7 @@ def line_context(nodes: np.ndarray, domain: Domain, model: Model) -> LineContext
 
 def build_candidates(nodes: np.ndarray, domain: Domain, model: Model) -> Candidates:
     """All admissible node-to-node lines with their costs."""
-    return lines_for_pairs(line_context(nodes, domain, model), visible_pairs(nodes))
+    return lines_for_pairs(line_context(nodes, domain, model), visible_pairs(nodes, dist_tol=THROUGH * domain.tol))
 
 
 def lines_for_pairs(ctx: LineContext, pairs: np.ndarray) -> Candidates:

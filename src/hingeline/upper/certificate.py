@@ -16,6 +16,8 @@ Units: m, kNm/m, kPa; work in kNm. w positive downward; theta > 0 sagging.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import shapely
 
@@ -25,6 +27,9 @@ from ..model import Model
 from ..model.criterion import capacity_at
 from ..result import CertificateCheck, Mechanism
 from .candidates import crossings, split_pieces
+
+#: Relative agreement required between a load factor and its re-check by the work equation.
+CERTIFICATE_RTOL = 1e-6
 
 
 def _gradients(V, T, w):
@@ -219,3 +224,16 @@ def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
     max_w = float(np.abs(mech.w[on_sup]).max(initial=0.0))
     lf = (internal - held) / factored if factored > 0 else float("nan")
     return CertificateCheck(lf, internal, factored, held, max_w)
+
+
+def certificate_agrees(load_factor: float, check: CertificateCheck, w_max: float,
+                       rtol: float = CERTIFICATE_RTOL) -> bool:
+    """The one test of agreement between a load factor and the re-check of its mechanism
+    (w_max: largest |w| of the mechanism, m/kNm): the re-checked load factor equals it within
+    rtol of its size, the factored loads do unit work on the field within rtol, and |w| on
+    the supports is at most rtol times w_max. All three are ratios, so no unit enters."""
+    lf, chk = float(load_factor), check
+    if not (math.isfinite(lf) and math.isfinite(chk.load_factor) and math.isfinite(chk.factored)):
+        return False
+    return (abs(chk.load_factor - lf) <= rtol * abs(lf) and abs(chk.factored - 1.0) <= rtol
+            and chk.max_support_w <= rtol * w_max)

@@ -22,7 +22,7 @@ from dataclasses import dataclass, fields, replace
 import numpy as np
 from scipy import sparse
 
-from .candidates import Candidates, LineContext, blocked_keys, line_context, lines_for_pairs, pairs_in_rows
+from .candidates import THROUGH, Candidates, LineContext, blocked_keys, line_context, lines_for_pairs, pairs_in_rows
 from .loadwork import island_rows, load_coefficients
 
 BLOCK_LINES = 1 << 18  # node pairs per block (memory of the order of 1 kB per pair at peak)
@@ -99,7 +99,7 @@ def candidate_source(nodes: np.ndarray, domain, model, block_lines: int | None =
     BLOCK_LINES; a block as large as n^2 makes all lines at once)."""
     n = len(nodes)
     block_lines = block_lines or BLOCK_LINES
-    blocked = blocked_keys(nodes, rows_per_block=max(1, block_lines // max(n, 1)))
+    blocked = blocked_keys(nodes, rows_per_block=max(1, block_lines // max(n, 1)), dist_tol=THROUGH * domain.tol)
     # Start node a has n - 1 - a partners b > a: cut the rows where the running count of
     # pairs passes each multiple of block_lines.
     per_row = np.arange(n - 1, -1, -1, dtype=np.int64)
