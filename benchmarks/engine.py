@@ -128,6 +128,9 @@ def floor_at_once() -> dict:
                 **_solve(FLOOR, mesh_size=FLOOR_2500, block_lines=1 << 62))
 
 
+# Targets (seconds, peak MB) of the engine at scale; a row says whether it met them.
+TARGETS = {"floor_upper": (60.0, 2048.0), "floor_both": (180.0, None), "square_fine": (8.0, None)}
+
 CASES = {"floor_upper": (floor_upper, 1), "floor_both": (floor_both, 1), "square_fine": (square_fine, 3),
          "blocks": (floor_blocks, 1), "at_once": (floor_at_once, 1)}
 
@@ -190,6 +193,12 @@ def _note(row: dict, key: str) -> None:
     if row["reference"]:
         parts.append(f"{(row['load_factor'] / row['reference'] - 1) * 100:+.2f} % vs reference")
     parts.append(f"median of {row['runs']}" if row["runs"] > 1 else "1 run")
+    if key in TARGETS:
+        secs, mb = TARGETS[key]
+        missed = [w for w, bad in (("time", row["seconds"] > secs), ("memory", mb is not None and row["peak_mb"] > mb))
+                  if bad]
+        target = f"target < {secs:g} s" + (f", < {mb / 1024:g} GB" if mb else "")
+        parts.append(f"{target}: {'MISSED (' + ', '.join(missed) + ')' if missed else 'met'}")
     parts += [f"warning: {w}" for w in row["warnings"]]
     row["note"] = "; ".join(parts)
 

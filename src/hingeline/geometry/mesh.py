@@ -23,11 +23,12 @@ from .domain import Domain, merge_points, segment_distance
 
 # Target number of nodes on the slab for each resolution word.
 TARGET_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
-# Most nodes a mesh may have. Memory of a solve grows about linearly with the nodes (peak
-# resident memory measured with benchmarks/engine.py: PEAK_NOTE); beyond this a solve would
-# need more memory than a workstation has, and the mesher itself runs out first for element
-# sizes far below it (1e-4 m on a 6 m slab went past 20 GB inside Triangle).
-MAX_NODES = 40_000
+# Most nodes a mesh may have. Candidate lines grow with the square of the nodes: beyond the
+# float32 copies kept for pricing (pricing.CACHE_BYTES) every round makes them again, and the
+# LP rounds grow faster than the nodes (benchmarks/README.md: the 10,000-node floor). Element
+# sizes far below this would exhaust memory in the mesher itself (1e-4 m on a 6 m slab went
+# past 20 GB inside Triangle), so the estimate below is checked before meshing.
+MAX_NODES = 20_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -49,7 +50,7 @@ def estimate_nodes(model: Model, size: float) -> float:
     """Nodes a mesh of element size `size` (m) will have, estimated before meshing from the
     area of the outline plus the fill strip beyond free edges: a mesh of equilateral triangles
     of side `size` has 2 / (sqrt(3) size^2) nodes per m2 (measured: 1068 nodes for an
-    estimate of 1100 on the unit square, 9065 for 9740 on the slab of benchmarks/engine.py)."""
+    estimate of 1100 on the unit square, 9969 for 10796 on the floor of benchmarks/engine.py)."""
     outline = np.asarray(model.slab.outline, float)
     side = np.hypot(*(np.roll(outline, -1, axis=0) - outline).T)
     free = float(side[np.asarray(model.slab.edges) == "free"].sum())
@@ -66,7 +67,7 @@ def check_node_budget(model: Model, size: float, option: str) -> None:
     if estimate > MAX_NODES:
         raise ModelError(
             f"{option} = {size:.4g} m would mesh the slab with about {estimate:,.0f} nodes, more than "
-            f"the {MAX_NODES:,} that fit in memory; use a larger {option} (at least "
+            f"the {MAX_NODES:,} that hingeline handles; use a larger {option} (at least "
             f"{size * np.sqrt(estimate / MAX_NODES):.3g} m) or a resolution")
 
 

@@ -48,7 +48,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from ..errors import SolverError, UnstableSlabError
-from .pricing import CandidateSource, LineSet, concat, violation
+from .pricing import CandidateSource, LineSet, concat
 
 log = logging.getLogger(__name__)
 
@@ -228,18 +228,14 @@ class _Worst:
 
 def _pricing_pass(source: CandidateSource, duals, lp_keys, m_ref, size, floor):
     """Price every candidate with `duals`. Returns (largest violation of a line not in the
-    LP, the `size` most violated such lines with a violation above `floor` (or None), number
-    of admissible lines)."""
-    n = source.n_nodes
+    LP, or an upper bound of it; the `size` most violated such lines with a violation above
+    `floor` (or None); number of admissible lines)."""
     worst, count, top = -np.inf, 0, _Worst(size, floor)
-    for block in source.blocks():
-        count += len(block)
-        viol = violation(block, duals, n, m_ref)
-        keys = block.keys(n)
-        pos = np.minimum(np.searchsorted(lp_keys, keys), len(lp_keys) - 1)
-        viol[lp_keys[pos] == keys] = -np.inf
-        worst = max(worst, float(viol.max(initial=-np.inf)))
-        top.offer(block, viol)
+    for block, viol, rest, k in source.priced(duals, m_ref, floor, lp_keys):
+        count += k
+        worst = max(worst, rest, float(viol.max(initial=-np.inf)))
+        if block is not None:
+            top.offer(block, viol)
     return worst, top.result(), count
 
 

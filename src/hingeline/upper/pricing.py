@@ -17,7 +17,7 @@ Units: m, kN, kNm/m; f and g in kN (kNm of work per rad).
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, fields, replace
+from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
 from scipy import sparse
@@ -26,6 +26,15 @@ from .candidates import THROUGH, Candidates, LineContext, blocked_keys, line_con
 from .loadwork import island_rows, load_coefficients
 
 BLOCK_LINES = 1 << 18  # node pairs per block (memory of the order of 1 kB per pair at peak)
+# Bytes of float32 copies of the blocks kept between rounds (about 24 per line). Making a
+# block costs about 2.5 us per pair (at 10,000 nodes, 0.53 s per block, 100 s per pass over
+# all blocks, dominated by the inside-the-slab crossings and the load work), while screening
+# its copy costs a few percent of that; blocks beyond the budget are made again every round.
+CACHE_BYTES = 2 << 30
+# Screening margin: a copy's violation is raised by SCREEN times the size of its terms, 16
+# times the float32 rounding (2^-24 per value), so that a line whose screened violation stays
+# at or below the floor is proven to stay there exactly.
+SCREEN = 1e-6
 
 
 @dataclass(frozen=True, eq=False)
@@ -64,13 +73,16 @@ class CandidateSource:
     """All admissible node-to-node lines of a mesh, made block by block.
 
     blocked: sorted keys of the pairs through a third node; bounds: first start node of each
-    block (and n at the end), so that a block holds about block_lines pairs.
+    block (and n at the end), so that a block holds about block_lines pairs. When all lines
+    fit in one block they are made once and kept (held: that one block).
     """
 
     ctx: LineContext
     blocked: np.ndarray
     bounds: np.ndarray
     n_extra: int
+    held: list = field(default_factory=list)
+    copies: dict = field(default_factory=dict)
 
     @property
     def n_nodes(self) -> int:
@@ -90,8 +102,105 @@ class CandidateSource:
     def blocks(self):
         """Every admissible line, as LineSets of consecutive start nodes."""
         n = self.n_nodes
+        if len(self.bounds) == 2:
+            if not self.held:
+                self.held.append(self.lines(pairs_in_rows(n, 0, n, self.blocked)))
+            yield self.held[0]
+            return
         for start, stop in zip(self.bounds[:-1], self.bounds[1:]):
             yield self.lines(pairs_in_rows(n, int(start), int(stop), self.blocked))
+
+
+    def priced(self, duals: np.ndarray, m_ref: float, floor: float, lp_keys: np.ndarray):
+        """Every admissible line priced with `duals`, block by block. Yields (lines, their exact
+        violations (violation(); -inf for the lines in lp_keys), an upper bound on the violation
+        of the block's other lines (-inf if none), number of lines in the block); lines is None
+        when no line of the block may violate beyond `floor`. Blocks kept
+        as float32 copies are screened, and only their lines that may violate beyond `floor`
+        are made again exactly."""
+        n = self.n_nodes
+        for k, block in enumerate(self._blocks_or_copies()):
+            if isinstance(block, LineSet):
+                viol = violation(block, duals, n, m_ref)
+                viol[_in_sorted(block.keys(n), lp_keys)] = -np.inf
+                kept = sum(c.nbytes for c in self.copies.values())
+                if len(self.bounds) > 2 and kept + 24 * len(block) <= CACHE_BYTES:
+                    self.copies[k] = _Copy.of(block)
+                yield block, viol, -np.inf, len(block)
+                continue
+            bound = block.screen(self.ctx.nodes, duals, m_ref)
+            bound[_in_sorted(block.a.astype(np.int64) * n + block.b, lp_keys)] = -np.inf
+            maybe = bound > floor
+            rest = float(bound[~maybe].max(initial=-np.inf))
+            if not maybe.any():
+                yield None, np.zeros(0), rest, len(bound)
+                continue
+            lines = self.lines(np.stack([block.a[maybe], block.b[maybe]], axis=1).astype(np.int64))
+            yield lines, violation(lines, duals, n, m_ref), rest, len(bound)
+
+    def _blocks_or_copies(self):
+        n = self.n_nodes
+        if len(self.bounds) == 2:
+            yield from self.blocks()
+            return
+        for k, (start, stop) in enumerate(zip(self.bounds[:-1], self.bounds[1:])):
+            yield self.copies.get(k) or self.lines(pairs_in_rows(n, int(start), int(stop), self.blocked))
+
+
+def _in_sorted(keys: np.ndarray, sorted_keys: np.ndarray) -> np.ndarray:
+    """Which of `keys` occur in the sorted array `sorted_keys`."""
+    if not len(sorted_keys):
+        return np.zeros(len(keys), bool)
+    pos = np.minimum(np.searchsorted(sorted_keys, keys), len(sorted_keys) - 1)
+    return sorted_keys[pos] == keys
+
+
+@dataclass(frozen=True, eq=False)
+class _Copy:
+    """float32 copy of a block of lines, for screening: node pairs and the costs (kNm/rad)
+    and work coefficients (kN) of each line; g and extra None where the block has none."""
+
+    a: np.ndarray
+    b: np.ndarray
+    f: np.ndarray
+    cost_plus: np.ndarray
+    cost_minus: np.ndarray
+    g: np.ndarray | None
+    extra: sparse.csr_matrix | None
+
+    @property
+    def nbytes(self) -> int:
+        extra = 0 if self.extra is None else self.extra.data.nbytes + self.extra.indices.nbytes
+        g = 0 if self.g is None else self.g.nbytes
+        return self.a.nbytes + self.b.nbytes + self.f.nbytes + 2 * self.cost_plus.nbytes + g + extra
+
+    @staticmethod
+    def of(lines: LineSet) -> _Copy:
+        c, f32 = lines.cand, np.float32
+        return _Copy(c.a.astype(np.int32), c.b.astype(np.int32), lines.f.astype(f32), c.cost_plus.astype(f32),
+                     c.cost_minus.astype(f32), lines.g.astype(f32) if np.any(lines.g) else None,
+                     lines.extra.astype(f32) if lines.extra.nnz else None)
+
+    def screen(self, nodes: np.ndarray, duals: np.ndarray, m_ref: float) -> np.ndarray:
+        """Upper bound of violation() of each line, from the copy."""
+        n = len(nodes)
+        d = nodes[self.b] - nodes[self.a]
+        length = np.hypot(d[:, 0], d[:, 1])
+        u = duals[: 2 * n].reshape(-1, 2)
+        du = u[self.a] - u[self.b]
+        st = (du[:, 0] * d[:, 0] + du[:, 1] * d[:, 1]) / length
+        mf = duals[2 * n] * self.f
+        s = st + mf
+        size = np.abs(st) + np.abs(mf) + self.cost_plus + self.cost_minus
+        if self.extra is not None:
+            z = duals[2 * n + 1:]
+            s += self.extra @ z
+            size += abs(self.extra) @ np.abs(z)
+        g = 0.0 if self.g is None else self.g
+        if self.g is not None:
+            size += 2 * np.abs(g)
+        viol = np.maximum(s - (self.cost_plus - g), -s - (self.cost_minus + g))
+        return (viol + SCREEN * size) / (m_ref * length)
 
 
 def candidate_source(nodes: np.ndarray, domain, model, block_lines: int | None = None) -> CandidateSource:
