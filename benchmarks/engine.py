@@ -131,8 +131,8 @@ def floor_at_once() -> dict:
 # Targets (seconds, peak MB) of the engine at scale; a row says whether it met them.
 TARGETS = {"floor_upper": (60.0, 2048.0), "floor_both": (180.0, None), "square_fine": (8.0, None)}
 
-CASES = {"floor_upper": (floor_upper, 1), "floor_both": (floor_both, 1), "square_fine": (square_fine, 3),
-         "blocks": (floor_blocks, 1), "at_once": (floor_at_once, 1)}
+CASES = {"square_fine": (square_fine, 3), "blocks": (floor_blocks, 1), "at_once": (floor_at_once, 1),
+         "floor_upper": (floor_upper, 1), "floor_both": (floor_both, 1)}
 
 
 def _child(fn, cap_bytes: int) -> dict:
@@ -170,19 +170,18 @@ def _fmt(v, spec: str) -> str:
     return "" if v is None else format(v, spec)
 
 
-def print_table(rows: list[dict]) -> None:
-    head = (f"{'case':<28} {'nodes':>6} {'load factor':>12} {'lower bound':>12} {'reference':>9} "
-            f"{'cert rel':>8} {'time s':>8} {'peak MB':>8}  note")
-    print(head)
-    print("-" * len(head))
-    for r in rows:
-        if "error" in r:
-            print(f"{r.get('case', '?'):<28} FAILED: {r['error']}  (peak {r['peak_mb']:.0f} MB)")
-            continue
-        print(f"{r['case']:<28} {_fmt(r['nodes'], '6d'):>6} {_fmt(r['load_factor'], '12.6f'):>12} "
-              f"{_fmt(r['lower_bound'], '12.6f'):>12} {_fmt(r['reference'], '9.3f'):>9} "
-              f"{_fmt(r['cert_rel_diff'], '8.1e'):>8} {_fmt(r['seconds'], '8.1f'):>8} "
-              f"{_fmt(r['peak_mb'], '8.0f'):>8}  {r.get('note', '')}")
+HEAD = (f"{'case':<28} {'nodes':>6} {'load factor':>12} {'lower bound':>12} {'reference':>9} "
+        f"{'cert rel':>8} {'time s':>8} {'peak MB':>8}  note")
+
+
+def print_row(r: dict) -> None:
+    if "error" in r:
+        print(f"{r.get('case', '?'):<28} FAILED: {r['error']}  (peak {r['peak_mb']:.0f} MB)", flush=True)
+        return
+    print(f"{r['case']:<28} {_fmt(r['nodes'], '6d'):>6} {_fmt(r['load_factor'], '12.6f'):>12} "
+          f"{_fmt(r['lower_bound'], '12.6f'):>12} {_fmt(r['reference'], '9.3f'):>9} "
+          f"{_fmt(r['cert_rel_diff'], '8.1e'):>8} {_fmt(r['seconds'], '8.1f'):>8} "
+          f"{_fmt(r['peak_mb'], '8.0f'):>8}  {r.get('note', '')}", flush=True)
 
 
 def _note(row: dict, key: str) -> None:
@@ -243,23 +242,28 @@ def main(argv=None) -> int:
 
     print(f"hingeline engine benchmarks, {time.strftime('%Y-%m-%d %H:%M')}, commit {_source_state()}")
     print(f"machine: {_machine()}; memory cap {args.mem_cap_gb:g} GB per run")
-    rows = []
+    print(HEAD)
+    print("-" * len(HEAD), flush=True)
+    # Rows are printed as they finish (a large case may take long); the comparison of blocks
+    # with all lines at once is printed last, under the table.
+    by_case = {}
     for name in names:
         fn, default_repeat = CASES[name]
         row = _median_row([run_fresh(fn, cap) for _ in range(args.repeat or default_repeat)])
         if "error" not in row:
             _note(row, name)
-        rows.append(row)
-    by_case = {n: r for n, r in zip(names, rows)}
+        by_case[name] = row
+        print_row(row)
+    if not args.no_extra:
+        for fn in _extra_rows():
+            print_row(run_fresh(fn, cap))
     blocks, at_once = by_case.get("blocks"), by_case.get("at_once")
     if blocks and at_once and "error" not in blocks and "error" not in at_once:
         same = abs(blocks["load_factor"] - at_once["load_factor"]) <= 1e-6 * abs(at_once["load_factor"])
-        blocks["note"] += (f"; vs all at once: time x{blocks['seconds'] / at_once['seconds']:.2f}, "
-                           f"peak memory x{blocks['peak_mb'] / at_once['peak_mb']:.2f}, load factor "
-                           f"{'equal' if same else 'DIFFERENT'}")
-    if not args.no_extra:
-        rows += [run_fresh(fn, cap) for fn in _extra_rows()]
-    print_table(rows)
+        print(f"blocks vs all lines at once (same mesh): time x{blocks['seconds'] / at_once['seconds']:.2f}, "
+              f"peak memory x{blocks['peak_mb'] / at_once['peak_mb']:.2f}, load factor "
+              f"{'equal to 1e-6' if same else 'DIFFERENT'} "
+              f"({blocks['load_factor']:.8g} vs {at_once['load_factor']:.8g})")
     return 0
 
 
