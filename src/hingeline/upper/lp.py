@@ -17,9 +17,7 @@ live HiGHS model. The loop stops only when no candidate has a negative reduced c
 beyond `tol` (relative to its length times the largest capacity; a looser 1e-4 was
 tried: the simply supported square then stopped at 24.0004 instead of 24.0000), so no
 line is left out that could lower the load factor. If `max_rounds` is reached first,
-the largest violation v left is reported; the duals scaled by 1 / (1 + v) are then
-feasible for all candidates, so the optimum over all lines is at least about
-load factor / (1 + v).
+the largest violation left is reported and the solve adds a warning.
 Measured alternatives that lost: taking the next round's lines from a pool kept by
 the last pricing pass (more rounds, each an interior-point solve, for pricing that
 cost less than the solve), deleting lines that stayed at zero (the interior-point
