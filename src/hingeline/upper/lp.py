@@ -55,6 +55,7 @@ EPS = 1e-8          # extra LP cost per m of line, relative to m_ref (see the mo
 BATCH_PER_NODE = 2  # most lines added per round, per node
 NEAR = 1e-3         # lines this close to violating (per m, per m_ref) may join a round's batch
 LOCAL = 3.0         # the first LP also holds every line up to LOCAL median mesh edges long
+VERTEX_ITERATIONS = 5000  # simplex iterations allowed after crossover (see _vertex)
 
 
 @dataclass(frozen=True, eq=False)
@@ -311,7 +312,12 @@ def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_re
     try:
         h.crossover(sol)
         h.setOptionValue("solver", "simplex")
+        # From the crossover's basis the simplex needs few iterations; on the simply
+        # supported square it was seen to run on for minutes instead. A deterministic
+        # iteration limit (not a time limit) sends such a case to the fresh solves below.
+        h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
         vsol, vobj = _run(h)
+        log.info("vertex by crossover: %d simplex iterations", h.getInfo().simplex_iteration_count)
         if vobj <= limit:
             xv = np.asarray(vsol.col_value)
             return xv[0::2] - xv[1::2]
