@@ -11,28 +11,23 @@ from dataclasses import replace
 
 import numpy as np
 import shapely
-from scipy import sparse
 
 from . import rescale, review
 from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
-from .geometry.mesh import mesh_domain, mesh_size_for
+from .geometry.mesh import MAX_NODES, check_node_budget, mesh_domain, mesh_size_for
 from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
 from .model import RESOLUTIONS, Model, model_for_case
 from .model.scaling import Scales, dimensionless, scales_of, size_warning
 from .result import CertificateCheck, LowerBound, Result, SolveStats, Work
-from .upper.candidates import build_candidates
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
-from .upper.loadwork import bearing_rows, island_rows, load_coefficients
 from .upper.lp import solve_lp
 from .upper.mechanism import build_mechanism, yield_lines
+from .upper.pricing import candidate_source, total_force
 
 log = logging.getLogger(__name__)
 
 VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
-# Candidate generation holds (nodes x nodes) arrays: 3000 nodes peaked at 1.2 GB (measured on random points).
-# The LP time grows faster still: 1068 nodes took 1 to 2.5 minutes.
-MAX_NODES = 3000
 
 
 def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None,
@@ -54,10 +49,14 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
     if res not in RESOLUTIONS:
         raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
     size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
+    option = size_option(model, resolution, mesh_size)
+    # Refused before meshing: the mesher itself can exhaust memory on a tiny element size.
+    check_node_budget(model, size, option)
     s = scales_of(model)
     hint = size_warning(model)
     try:
-        raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s)
+        raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s,
+                                                        option)
     except HeldLoadCollapse as err:
         err.result = _held_alone(model, resolution, mesh_size)
         if hint is not None:
@@ -116,9 +115,19 @@ def _held_alone(model: Model, resolution: str | None, mesh_size: float | None) -
     return replace(r, warnings=(note, *r.warnings))
 
 
-def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales):
+def size_option(model: Model, resolution: str | None, mesh_size: float | None) -> str:
+    """How the element size of a solve was set, in the words a user would recognise (for
+    messages): the mesh_size argument, the file's analysis.mesh_size, or a resolution word."""
+    if mesh_size:
+        return "mesh_size"
+    if resolution is None and model.analysis.mesh_size:
+        return "analysis.mesh_size"
+    return f'resolution "{resolution or model.analysis.resolution}"'
+
+
+def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales, option: str):
     """The solve on `model` restated in the units `s` (model/scaling.py), with element size
-    `size` in those units. Returns (Result in those units, whose warnings are only those of
+    `size` in those units; option: how the size was set (size_option). Returns (Result in those units, whose warnings are only those of
     the line search and the lower bound; largest disagreement between planes meeting at a
     vertex and largest |w| found on a supported edge, both relative to the largest |w|)."""
     t0 = time.perf_counter()
@@ -127,30 +136,15 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     nodes = mesh.nodes
     if len(nodes) > MAX_NODES:
         raise ModelError(
-            f"analysis.mesh_size = {size * s.length:.4g} m gives {len(nodes)} nodes, more than the {MAX_NODES} that "
-            "hingeline handles (candidate lines grow with the square of the nodes); use a larger "
-            "mesh_size or resolution = \"fine\"")
-    cand = build_candidates(nodes, domain, model)
-    log.info("mesh: %d nodes, %d candidate lines", len(nodes), len(cand))
-
-    p, q = nodes[cand.a], nodes[cand.b]
-    f, g, w_total = load_coefficients(model, domain.slab, p, q)
-
-    key = cand.a * len(nodes) + cand.b
-    order = np.argsort(key)
-    mkey = mesh.edges[:, 0] * len(nodes) + mesh.edges[:, 1]
-    pos = np.searchsorted(key, mkey, sorter=order)
-    initial = order[pos]
-    if not np.array_equal(key[initial], mkey):
-        raise SolverError("a mesh edge is missing from the candidate lines")
-
+            f"{option} = {size * s.length:.4g} m gives {len(nodes):,} nodes, more than the {MAX_NODES:,} "
+            f"that hingeline handles; use a larger {option}")
+    source = candidate_source(nodes, domain, model)
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
-    # Rows that hold the supports inside the slab: islands of ground at rest (3 rows each),
-    # bearing points of pinned columns at w = 0 (1 row each).
-    extra = sparse.hstack([island_rows(p, q, domain.islands), bearing_rows(p, q, domain.bearings)], format="csr")
-    extra = extra if extra.shape[1] else None
-    sol = solve_lp(cand, f, g, len(nodes), initial, m_ref, tol=VIOLATION_TOL, extra=extra)
+    sol = solve_lp(source, mesh.edges, m_ref, tol=VIOLATION_TOL)
+    cand, f, g = sol.lines.cand, sol.lines.f, sol.lines.g
+    log.info("mesh: %d nodes, %d candidate lines", len(nodes), sol.candidates)
+    w_total = total_force(model, domain)
     lf = sol.objective
     # Dimensionless scale of load factors: capacity over total factored force (kNm/m / kN).
     lf_scale = m_ref / w_total
@@ -181,7 +175,7 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     lb = _lower_bound(model, domain, mesh, float(lf), warnings) if lower_bound else None
     seconds = time.perf_counter() - t0
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
-    stats = SolveStats(len(nodes), slab_nodes, len(cand), int(sol.in_lp.sum()), sol.rounds,
+    stats = SolveStats(len(nodes), slab_nodes, sol.candidates, len(cand), sol.rounds,
                        sol.max_violation, seconds, float(size))
     log.info("dimensionless load factor %.6f (plane mismatch %.1e), %.2f s", lf, mismatch, seconds)
     # The certificate is checked by `solve` on the mechanism in the model's units.

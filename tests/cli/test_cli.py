@@ -220,6 +220,36 @@ def test_solve_mesh_size_passed_through(tmp_path, fake_solver):
     assert fake_solver.calls[0]["resolution"] is None
 
 
+def test_too_fine_mesh_size_option_exit_2_before_solving(tmp_path, capsys, fake_solver):
+    # 1e-4 m elements on 5 m x 4 m: about 2.3e9 nodes (2 A / (sqrt(3) h^2)); refused with a
+    # message naming the option, before anything is meshed or solved.
+    model = write_model(tmp_path, GOOD_MODEL)
+    assert main(["solve", str(model), "-o", str(tmp_path / "o"), "--mesh-size", "1e-4"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: --mesh-size = 0.0001 m would mesh the slab with about") and "nodes" in err
+    assert fake_solver.calls == []
+    assert not (tmp_path / "o").exists()
+
+
+def test_too_fine_mesh_size_in_file_exit_2_before_meshing(tmp_path, capsys, monkeypatch):
+    # analysis.mesh_size = 1e-4 m on a 6 m x 6 m slab: about 7e9 nodes (2 A / (sqrt(3) h^2), the
+    # node density of equilateral triangles), which would exhaust memory inside the mesher. The
+    # real solver refuses it from the estimate, naming the entry of the file, and writes nothing.
+    import importlib
+
+    def no_mesher(*args, **kwargs):
+        raise AssertionError("the mesher was called")
+
+    monkeypatch.setattr(importlib.import_module("hingeline.solve"), "mesh_domain", no_mesher)
+    text = GOOD_MODEL.replace("[5.0, 0.0], [5.0, 4.0], [0.0, 4.0]", "[6.0, 0.0], [6.0, 6.0], [0.0, 6.0]")
+    model = write_model(tmp_path, text.replace('resolution = "coarse"', "mesh_size = 1e-4"))
+    assert main(["solve", str(model), "-o", str(tmp_path / "o")]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: analysis.mesh_size = 0.0001 m would mesh the slab with about"), err
+    assert "Traceback" not in err
+    assert not (tmp_path / "o").exists()
+
+
 @pytest.mark.parametrize("exc, code", [(UnstableSlabError("the slab is a mechanism at zero load: free edges"), 2),
                                        (SolverError("HiGHS reported status 'time limit'"), 3)])
 def test_solver_errors_map_to_exit_codes(tmp_path, capsys, fake_solver, exc, code):

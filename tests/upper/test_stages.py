@@ -1,4 +1,6 @@
 """Unit tests of the solver stages (candidates, load work, errors)."""
+import importlib
+
 import numpy as np
 import pytest
 from shapely.geometry import Polygon
@@ -86,7 +88,50 @@ def test_held_load_lowers_load_factor_by_its_share():
     assert r1.load_factor == pytest.approx(r0.load_factor - 2.0 / 5.0, rel=1e-6)
 
 
-def test_too_fine_mesh_is_refused_with_a_message():
-    big = BASE.format(edges='"simple"', hogging=10.0, extra="").replace('resolution = "coarse"', "mesh_size = 0.02")
-    with pytest.raises(hingeline.ModelError, match="mesh_size"):
+def test_too_fine_mesh_is_refused_before_meshing(monkeypatch):
+    # 1e-4 m elements on a 4 m x 3 m slab would be about 1.4e9 nodes (2 A / (sqrt(3) h^2),
+    # the node density of equilateral triangles): refused from the estimate, before the
+    # mesher (which would run out of memory) is called.
+    solve_module = importlib.import_module("hingeline.solve")
+
+    def no_mesher(*args, **kwargs):
+        raise AssertionError("the mesher was called")
+
+    monkeypatch.setattr(solve_module, "mesh_domain", no_mesher)
+    big = BASE.format(edges='"simple"', hogging=10.0, extra="").replace('resolution = "coarse"', "mesh_size = 1e-4")
+    with pytest.raises(hingeline.ModelError, match=r"analysis\.mesh_size = 0\.0001 m .* nodes"):
         hingeline.solve(hingeline.model_from_toml(big))
+    with pytest.raises(hingeline.ModelError, match=r"^mesh_size = 0\.0001 m"):
+        hingeline.solve(hingeline.model_from_toml(BASE.format(edges='"simple"', hogging=10.0, extra="")),
+                        mesh_size=1e-4)
+
+
+def test_lines_made_in_blocks_are_the_lines_made_at_once():
+    # Overlap removal, the inside-the-domain tests, costs and work coefficients per block
+    # of start nodes must give exactly the lines of one pass over all pairs: a slab with
+    # an opening, a free edge (fill strip), a column (island) and a point load.
+    from hingeline.geometry.domain import build_domain
+    from hingeline.geometry.mesh import mesh_domain, mesh_size_for
+    from hingeline.upper.candidates import build_candidates
+    from hingeline.upper.loadwork import island_rows, load_coefficients
+    from hingeline.upper.pricing import candidate_source, concat
+
+    extra = ('[[slab.opening]]\npolygon = [[1.0, 1.0], [1.8, 1.0], [1.8, 1.6], [1.0, 1.6]]\n'
+             '[[column]]\nat = [3.0, 1.5]\nsize = [0.2, 0.2]\n'
+             '[[load]]\ntype = "point"\nvalue = 3.0\nat = [2.5, 2.2]')
+    m = hingeline.model_from_toml(BASE.format(edges='["simple", "simple", "free", "continuous"]',
+                                              hogging=8.0, extra=extra))
+    size = mesh_size_for(m, "coarse")
+    domain = build_domain(m, margin=size)
+    nodes = mesh_domain(domain, m, size).nodes
+    whole = build_candidates(nodes, domain, m)
+    p, q = nodes[whole.a], nodes[whole.b]
+    f, g, _ = load_coefficients(m, domain.slab, p, q)
+    islands = island_rows(p, q, domain.islands).toarray()
+    source = candidate_source(nodes, domain, m, block_lines=997)
+    assert len(source.bounds) > 10
+    parts = concat(list(source.blocks()))
+    for name in ("a", "b", "length", "kind", "cost_plus", "cost_minus"):
+        assert np.array_equal(getattr(parts.cand, name), getattr(whole, name)), name
+    assert np.array_equal(parts.f, f) and np.array_equal(parts.g, g)
+    assert np.array_equal(parts.extra.toarray(), islands)

@@ -5,6 +5,7 @@ import argparse
 from pathlib import Path
 
 from ..errors import HeldLoadCollapse
+from ..geometry.mesh import check_node_budget
 from ..model import RESOLUTIONS, read_model
 from ..result import Result
 from . import report
@@ -58,6 +59,9 @@ def write_files(result: Result, outdir: Path) -> list[Path]:
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
+    if args.mesh_size is not None:
+        # Checked here too, so that the message names the option the user typed.
+        check_node_budget(model, args.mesh_size, "--mesh-size")
     report.check_outdir(args.outdir)
     from ..solve import solve_cases  # imported late: reading the model needs no solver
 

@@ -17,6 +17,7 @@ import numpy as np
 import shapely
 from shapely.geometry import LineString
 
+from ..errors import ModelError
 from ..model import Model
 from .domain import Domain, merge_points, segment_distance
 
@@ -24,6 +25,12 @@ from .domain import Domain, merge_points, segment_distance
 TARGET_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
 # Nodes on the ring round each bearing point of a pinned column (see _bearing_rings).
 BEARING_RING = 12
+# Most nodes a mesh may have. Candidate lines grow with the square of the nodes: beyond the
+# float32 copies kept for pricing (pricing.CACHE_BYTES) every round makes them again, and the
+# LP rounds grow faster than the nodes (benchmarks/README.md: the 10,000-node floor). Element
+# sizes far below this would exhaust memory in the mesher itself (1e-4 m on a 6 m slab went
+# past 20 GB inside Triangle), so the estimate below is checked before meshing.
+MAX_NODES = 20_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -39,6 +46,31 @@ def mesh_size_for(model: Model, resolution: str) -> float:
     """Element size (m) that puts about TARGET_NODES[resolution] nodes on the slab."""
     area = shapely.Polygon(model.slab.outline).area
     return float(np.sqrt(2.0 * area / (np.sqrt(3.0) * TARGET_NODES[resolution])))
+
+
+def estimate_nodes(model: Model, size: float) -> float:
+    """Nodes a mesh of element size `size` (m) will have, estimated before meshing from the
+    area of the outline plus the fill strip beyond free edges: a mesh of equilateral triangles
+    of side `size` has 2 / (sqrt(3) size^2) nodes per m2 (measured: 1068 nodes for an
+    estimate of 1100 on the unit square, 9969 for 10796 on the floor of benchmarks/engine.py)."""
+    outline = np.asarray(model.slab.outline, float)
+    side = np.hypot(*(np.roll(outline, -1, axis=0) - outline).T)
+    free = float(side[np.asarray(model.slab.edges) == "free"].sum())
+    area = shapely.Polygon(outline).area + free * size
+    return 2.0 * area / (np.sqrt(3.0) * size**2)
+
+
+def check_node_budget(model: Model, size: float, option: str) -> None:
+    """Refuse, before meshing, an element size that would give more than MAX_NODES nodes.
+    option: how the user set the size, for the message (e.g. "--mesh-size")."""
+    if not (np.isfinite(size) and size > 0):
+        raise ModelError(f"{option} must be a positive number of m, got {size!r}")
+    estimate = estimate_nodes(model, size)
+    if estimate > MAX_NODES:
+        raise ModelError(
+            f"{option} = {size:.4g} m would mesh the slab with about {estimate:,.0f} nodes, more than "
+            f"the {MAX_NODES:,} that hingeline handles; use a larger {option} (at least "
+            f"{size * np.sqrt(estimate / MAX_NODES):.3g} m) or a resolution")
 
 
 def _linework(domain: Domain, model: Model):

@@ -47,8 +47,9 @@ def _above(p, q, dx, length, x1, y1, x2, y2):
     Returns (sel, span, ha, hb): the lines concerned, the parameter length (t units) of the
     part above, and the height h = y_line - y_segment at its two ends (h is linear in t)."""
     xmin, xmax = min(x1, x2), max(x1, x2)
+    # A line nowhere above the segment's lowest point has no part above it (its term is 0).
     sel = np.flatnonzero((np.abs(dx) > 1e-15 * length) & (np.maximum(p[:, 0], q[:, 0]) > xmin)
-                         & (np.minimum(p[:, 0], q[:, 0]) < xmax))
+                         & (np.minimum(p[:, 0], q[:, 0]) < xmax) & (np.maximum(p[:, 1], q[:, 1]) > min(y1, y2)))
     pa, qa, d = p[sel], q[sel], dx[sel]
     ta = np.clip((xmin - pa[:, 0]) / d, 0.0, 1.0)
     tb = np.clip((xmax - pa[:, 0]) / d, 0.0, 1.0)

@@ -9,55 +9,83 @@ Variables: for each line i in the LP, theta_i+ >= 0 (sagging) and theta_i- >= 0
 with c the plastic costs (kNm/rad), f and g the work coefficients (kN) of the
 factored and held loads. The optimum is the load factor.
 
-Only the mesh edges enter the first LP; every other candidate is priced with the
-duals (u at the node rows, mu at the work row) and the worst violators are added
-as new columns to the live HiGHS model, which re-solves from its last basis.
-The loop stops when no candidate has a negative reduced cost beyond `tol`
-(relative to its length times the largest capacity; a looser 1e-4 was tried: the simply
-supported square then stopped at 24.0004 instead of 24.0000, without saving time at "fine"), or when the load factor
-has stopped falling (see `patience`); either way the mechanism found is a valid
-upper bound, the second only leaves some doubt that more lines could lower it.
+The first LP holds the mesh edges and the short lines around each node. After each
+solve every other candidate is priced with the duals (u at the node rows, mu at the
+work row; see pricing.py, which makes the candidates block by block) and the worst
+violators, with the lines just short of violating, are added as new columns to the
+live HiGHS model. The loop stops only when no candidate has a negative reduced cost
+beyond `tol` (relative to its length times the largest capacity; a looser 1e-4 was
+tried: the simply supported square then stopped at 24.0004 instead of 24.0000), so no
+line is left out that could lower the load factor. If `max_rounds` is reached first,
+the largest violation left is reported and the solve adds a warning.
+Measured alternatives that lost: taking the next round's lines from a pool kept by
+the last pricing pass (more rounds, each an interior-point solve, for pricing that
+cost less than the solve), deleting lines that stayed at zero (the interior-point
+duals then moved and violated them again, and the loop stalled with violations left),
+and capping the new lines per node (the load factor stalled above the optimum).
+
+Fill (openings and the strip beyond free edges) has no strength, so hinges there
+cost nothing, and motions of the fill alone cost nothing and do no work: the optimal
+face of the LP is unbounded. Interior point then drifts along it (rotations in the
+fill thousands of times those in the slab, status 'imprecise' or 'Unknown', and a
+simplex over the lines it uses reports 'infeasible' or 'unbounded'). Every line in
+the LP therefore carries a small extra cost EPS * m_ref per m of length; its effect
+on the load factor is below the pricing tolerance, and the load factor reported is
+the true cost of the mechanism found.
 """
 from __future__ import annotations
 
 import logging
 import os
 import sys
+import time
 from dataclasses import dataclass
 
 import highspy
 import numpy as np
+from scipy.spatial import cKDTree
 
 from ..errors import HeldLoadCollapse, SolverError, UnstableSlabError
+from .pricing import CandidateSource, LineSet, concat
 
 log = logging.getLogger(__name__)
 
 
+EPS = 1e-8          # extra LP cost per m of line, relative to m_ref (see the module docstring)
+BATCH_PER_NODE = 2  # most lines added per round, per node
+NEAR = 1e-3         # lines this close to violating (per m, per m_ref) may join a round's batch
+LOCAL = 3.0         # the first LP also holds every line up to LOCAL median mesh edges long
+VERTEX_ITERATIONS = 5000  # simplex iterations allowed after crossover (see _vertex)
+
+
 @dataclass(frozen=True, eq=False)
 class LPSolution:
-    """theta: (c,) rotation of every candidate (0 for lines never added), rad.
-    objective: load factor. rounds: LP solves. in_lp: (c,) bool, lines in the final LP.
-    max_violation: largest reduced-cost violation left, per unit length and
-    unit capacity (0 when the optimum over all candidates is proven)."""
+    """lines: the lines of the final LP; theta: (c,) their rotations, rad (0 for lines
+    not in the mechanism). objective: load factor (cost of the mechanism found).
+    rounds: LP solves, each followed by a pricing pass over every candidate; candidates:
+    how many admissible lines there are. max_violation: largest reduced-cost violation
+    left at the last pass, per unit length and unit capacity (0 or below tol when the
+    optimum over all candidates is proven)."""
 
+    lines: LineSet
     theta: np.ndarray
     objective: float
     rounds: int
-    in_lp: np.ndarray
+    candidates: int
     max_violation: float
 
 
-def _columns(cand, f, g, idx, n_nodes, extra):
-    """HiGHS column data for lines idx: each gives a +theta and a -theta column.
-    extra: (c, r) sparse coefficients of the lines in the island rows (after the work row)."""
-    a, b, t = cand.a[idx], cand.b[idx], cand.tangent[idx]
-    k = len(idx)
+def _columns(lines: LineSet, n_nodes: int, extra_cost: np.ndarray):
+    """HiGHS column data for `lines`: each gives a +theta and a -theta column."""
+    c = lines.cand
+    a, b, t = c.a, c.b, c.tangent
+    k = len(c)
     rows = np.stack([2 * a, 2 * a + 1, 2 * b, 2 * b + 1, np.full_like(a, 2 * n_nodes)], axis=1)
-    vals = np.stack([t[:, 0], t[:, 1], -t[:, 0], -t[:, 1], f[idx]], axis=1)
+    vals = np.stack([t[:, 0], t[:, 1], -t[:, 0], -t[:, 1], lines.f], axis=1)
     line = np.repeat(np.arange(k), 5)
     row, val = rows.ravel(), vals.ravel()
-    if extra is not None and extra.shape[1]:
-        e = extra[idx].tocoo()
+    if lines.extra.shape[1]:
+        e = lines.extra.tocoo()
         line = np.concatenate([line, e.row])
         row = np.concatenate([row, 2 * n_nodes + 1 + e.col])
         val = np.concatenate([val, e.data])
@@ -71,8 +99,8 @@ def _columns(cand, f, g, idx, n_nodes, extra):
     col, row, val = col[order], row[order], val[order]
     starts = np.searchsorted(col, np.arange(2 * k))
     cost = np.empty(2 * k)
-    cost[0::2] = cand.cost_plus[idx] - g[idx]
-    cost[1::2] = cand.cost_minus[idx] + g[idx]
+    cost[0::2] = c.cost_plus - lines.g + extra_cost
+    cost[1::2] = c.cost_minus + lines.g + extra_cost
     return cost, starts.astype(np.int32), row.astype(np.int32), val
 
 
@@ -105,6 +133,10 @@ def _new_model(n_nodes, ipm, n_extra=0):
         # primal simplex 30 s).
         h.setOptionValue("solver", "ipm")
         h.setOptionValue("run_crossover", "off")
+    # Presolve spends its time searching for dependent equations among the compatibility rows
+    # and finds none worth removing (clamped square, 1068 nodes, final LP of 2137 rows and
+    # 23k columns: 13.4 s with presolve, 1.15 s without, the same optimum).
+    h.setOptionValue("presolve", "off")
     nrow = 2 * n_nodes + 1 + n_extra
     lower = np.zeros(nrow)
     upper = np.zeros(nrow)
@@ -113,9 +145,9 @@ def _new_model(n_nodes, ipm, n_extra=0):
     return h
 
 
-def _add(h, cand, f, g, idx, n_nodes, extra):
-    cost, starts, indices, values = _columns(cand, f, g, idx, n_nodes, extra)
-    k = 2 * len(idx)
+def _add(h, lines: LineSet, n_nodes: int, m_ref: float):
+    cost, starts, indices, values = _columns(lines, n_nodes, EPS * m_ref * lines.cand.length)
+    k = 2 * len(lines)
     h.addCols(k, cost, np.zeros(k), np.full(k, highspy.kHighsInf), len(indices), starts, indices, values)
 
 
@@ -156,83 +188,155 @@ def _run_rounds(h):
     raise SolverError("HiGHS could not solve the linear program with interior point or simplex")
 
 
-def solve_lp(cand, f, g, n_nodes, initial, m_ref, tol=1e-7, max_rounds=200,
-             batch=None, patience=3, stall=1e-7, extra=None) -> LPSolution:
-    """Adaptive DLO solve. initial: indices of the lines of the first LP.
+def _true_objective(lines: LineSet, theta: np.ndarray) -> float:
+    """Load factor of rotations theta on `lines`: internal minus held-load work (kNm) at
+    unit factored-load work, without the EPS cost."""
+    c = lines.cand
+    return float(np.sum(np.where(theta > 0, (c.cost_plus - lines.g) * theta, -(c.cost_minus + lines.g) * theta)))
+
+
+class _Worst:
+    """The `size` lines with the largest violation offered so far (a running selection)."""
+
+    def __init__(self, size: int, floor: float):
+        self.size, self.cutoff, self.parts, self.held = size, floor, [], 0
+
+    def offer(self, lines: LineSet, viol: np.ndarray) -> None:
+        keep = np.flatnonzero(viol > self.cutoff)
+        if keep.size:
+            self.parts.append((viol[keep], lines.take(keep)))
+            self.held += keep.size
+            if self.held > 2 * self.size:
+                self._compress()
+
+    def _compress(self) -> None:
+        viol = np.concatenate([v for v, _ in self.parts])
+        lines = concat([ls for _, ls in self.parts])
+        if len(viol) > self.size:
+            top = np.argpartition(-viol, self.size - 1)[: self.size]
+            viol, lines = viol[top], lines.take(top)
+            self.cutoff = float(viol.min())
+        self.parts, self.held = [(viol, lines)], len(viol)
+
+    def result(self) -> LineSet | None:
+        if not self.parts:
+            return None
+        self._compress()
+        return self.parts[0][1]
+
+
+def _pricing_pass(source: CandidateSource, duals, lp_keys, m_ref, size, floor):
+    """Price every candidate with `duals`. Returns (largest violation of a line not in the
+    LP, or an upper bound of it; the `size` most violated such lines with a violation above
+    `floor` (or None); number of admissible lines)."""
+    worst, count, top = -np.inf, 0, _Worst(size, floor)
+    for block, viol, rest, k in source.priced(duals, m_ref, floor, lp_keys):
+        count += k
+        worst = max(worst, rest, float(viol.max(initial=-np.inf)))
+        if block is not None:
+            top.offer(block, viol)
+    return worst, top.result(), count
+
+
+def _first_lines(source: CandidateSource, initial: np.ndarray) -> LineSet:
+    """The lines of the first LP: the mesh edges and every line up to LOCAL median mesh
+    edges long. Measured on the clamped square at 1068 nodes: 9 rounds from the mesh edges
+    alone, 7 with lines up to 2 edges, 5 up to 3 (each round's LP larger, the total about
+    equal); on the irregular slab of benchmarks/engine.py at 2308 nodes, 9 against 5 rounds,
+    each round also paying a pricing pass over 2.5 million lines."""
+    nodes, n = source.ctx.nodes, source.n_nodes
+    edge = np.hypot(*(nodes[initial[:, 0]] - nodes[initial[:, 1]]).T)
+    near = cKDTree(nodes).query_pairs(LOCAL * float(np.median(edge)), output_type="ndarray")
+    keys = np.union1d(initial[:, 0].astype(np.int64) * n + initial[:, 1],
+                      near.min(1).astype(np.int64) * n + near.max(1))
+    keys = np.setdiff1d(keys, source.blocked, assume_unique=True)
+    lines = source.lines(np.stack(np.divmod(keys, n), axis=1))
+    mesh = np.isin(lines.keys(n), initial[:, 0].astype(np.int64) * n + initial[:, 1])
+    if mesh.sum() != len(initial):
+        raise SolverError("a mesh edge is not an admissible candidate line")
+    return lines
+
+
+def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-7, max_rounds=200,
+             batch=None) -> LPSolution:
+    """Adaptive DLO solve over every admissible line of `source`.
+
+    initial: (k, 2) node pairs a < b of the mesh edges (each must be admissible).
     m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round.
-    extra: optional (c, r) sparse matrix of further equality rows (= 0) per line: the
-    conditions that islands of ground (columns, walls) stay at rest."""
-    n_extra = 0 if extra is None else extra.shape[1]
-    h = _new_model(n_nodes, ipm=True, n_extra=n_extra)
-    in_lp = np.zeros(len(cand), bool)
-    order = []  # line index of every column pair, in column order
-    scale = m_ref * cand.length
-    if batch is None:
-        # About one line per node per round: smaller LPs per round were faster overall than
-        # larger batches (clamped square, 1068 nodes: batch 2n 160 s, n 57 s, n/4 59 s).
-        batch = max(n_nodes, 200)
-
-    def add(idx):
-        _add(h, cand, f, g, idx, n_nodes, extra)
-        in_lp[idx] = True
-        order.extend(idx.tolist())
-
-    add(np.asarray(initial))
-    rounds, history = 0, []
+    """
+    n = source.n_nodes
+    h = _new_model(n, ipm=True, n_extra=source.n_extra)
+    lines = _first_lines(source, np.asarray(initial))
+    batch = batch or max(BATCH_PER_NODE * n, 200)
+    _add(h, lines, n, m_ref)
+    n_first = len(lines)
+    rounds = count = 0
+    viol_max = np.inf
     while True:
+        t0 = time.perf_counter()
         sol, obj = _run_rounds(h)
+        t1 = time.perf_counter()
         rounds += 1
         y = np.asarray(sol.row_dual)
-        u = y[: 2 * n_nodes].reshape(-1, 2)
-        mu = y[2 * n_nodes]
-        s = ((u[cand.a] - u[cand.b]) * cand.tangent).sum(1) + mu * f
-        if n_extra:
-            s += extra @ y[2 * n_nodes + 1:]
-        rc_plus = cand.cost_plus - g - s
-        rc_minus = cand.cost_minus + g + s
-        viol = np.maximum(-rc_plus, -rc_minus) / scale
-        viol[in_lp] = 0.0
-        viol_max = float(viol.max(initial=0.0))
-        log.info("LP round %d: %d lines, load factor %.6f, max violation %.2e",
-                 rounds, in_lp.sum(), obj, viol_max)
-        history.append(obj)
-        # Stop once the load factor has not moved by `stall` (relative) over `patience` rounds.
-        stalled = len(history) > patience and history[-1 - patience] - obj <= stall * abs(obj)
-        if viol_max <= tol or rounds >= max_rounds or stalled:
+        # Lines a little short of violating join the batch too: without them the last rounds
+        # each added a handful of lines, one interior-point solve each, while the load factor
+        # no longer moved (the duals only shifted inside the optimal face).
+        viol_max, new, count = _pricing_pass(source, y, np.sort(lines.keys(n)), m_ref, batch, min(tol, -NEAR))
+        log.info("LP round %d: %d lines, load factor %.6f, max violation %.2e (LP %.2f s, pricing %.2f s)",
+                 rounds, len(lines), obj, viol_max, t1 - t0, time.perf_counter() - t1)
+        # No stall rule: a line is left out only when pricing proves it cannot lower the load
+        # factor (violation <= tol); max_rounds is a safeguard, reported as a warning.
+        if viol_max <= tol or rounds >= max_rounds or new is None:
             if viol_max > tol:
                 log.info("LP stopped with violation %.2e left", viol_max)
             break
-        bad = np.flatnonzero(viol > tol)
-        if bad.size > batch:
-            bad = bad[np.argpartition(-viol[bad], batch)[:batch]]
-        add(bad)
+        _add(h, new, n, m_ref)
+        lines = concat([lines, new])
+    theta = _vertex(h, sol, obj, lines, n_first, n, m_ref, source.n_extra)
+    return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
 
-    # A vertex solution (few active lines): a simplex solve over the lines the interior-point
-    # solution uses, else over all LP lines, else interior point with crossover. Each try is
-    # kept only if it does not lose optimality; if all fail, the interior-point solution is
-    # used as it is (still a compatible mechanism; the certificate check judges it).
-    order = np.asarray(order)
+def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_ref: float, n_extra: int):
+    """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
+    sees clean hinges. First crossover from the interior-point solution, then the simplex
+    from the basis it finds, on the live model: on the irregular slab at 2308 nodes (final
+    LP of 17,717 lines) 0.5 s + 0.9 s, against 20 s for a simplex from scratch over the
+    9,062 lines the interior-point solution uses. When that fails ('Solve error' was seen
+    on a skewed slab with rounded coordinates), a simplex from scratch over the lines the
+    interior-point solution uses and the first LP's lines, then over all LP lines. A try
+    is kept only if it does not lose optimality; if all fail, the interior-point rotations
+    are used as they are (a compatible mechanism all the same; the certificate check
+    judges it)."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
-    big = order[np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max()]
-    support = np.union1d(big, np.asarray(initial))
-    theta = np.zeros(len(cand))
-    for lines, ipm in ((support, False), (order, False), (order, True)):
-        hv = _new_model(n_nodes, ipm=ipm, n_extra=n_extra)
-        if ipm:
-            hv.setOptionValue("run_crossover", "on")
-        _add(hv, cand, f, g, lines, n_nodes, extra)
+    limit = obj * (1 + 1e-7) + 1e-12
+    try:
+        h.crossover(sol)
+        h.setOptionValue("solver", "simplex")
+        # From the crossover's basis the simplex needs few iterations; on the simply
+        # supported square it was seen to run on for minutes instead. A deterministic
+        # iteration limit (not a time limit) sends such a case to the fresh solves below.
+        h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+        vsol, vobj = _run(h)
+        log.info("vertex by crossover: %d simplex iterations", h.getInfo().simplex_iteration_count)
+        if vobj <= limit:
+            xv = np.asarray(vsol.col_value)
+            return xv[0::2] - xv[1::2]
+    except (SolverError, UnstableSlabError) as err:
+        log.info("crossover to a vertex failed (%s)", err)
+    big = np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max()
+    big[:n_first] = True
+    for idx in (np.flatnonzero(big), np.arange(len(lines))):
+        hv = _new_model(n_nodes, ipm=False, n_extra=n_extra)
+        _add(hv, lines.take(idx), n_nodes, m_ref)
         try:
             vsol, vobj = _run(hv)
-        except SolverError as err:
-            log.info("vertex solve over %d lines failed: %s", len(lines), err)
+        except (SolverError, UnstableSlabError) as err:
+            log.info("simplex over %d lines failed: %s", len(idx), err)
             continue
-        if vobj <= obj * (1 + 1e-7) + 1e-12:
-            log.info("vertex solution over %d lines: load factor %.8f", len(lines), vobj)
+        if vobj <= limit:
             xv = np.asarray(vsol.col_value)
-            theta[lines] = xv[0::2] - xv[1::2]
-            return LPSolution(theta, float(vobj), rounds, in_lp, viol_max)
+            theta = np.zeros(len(lines))
+            theta[idx] = xv[0::2] - xv[1::2]
+            return theta
     log.info("no vertex solution: using the interior-point solution")
-    theta[order] = theta_ipm
-    vobj = obj
-    return LPSolution(theta, float(vobj), rounds, in_lp, viol_max)
+    return theta_ipm
