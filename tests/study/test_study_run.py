@@ -9,7 +9,6 @@ import pytest
 
 import hingeline
 from hingeline._cli.main import main
-from hingeline.model import model_from_toml, parse_model, read_model
 from hingeline.study import run as study_run
 from hingeline.verify import read_result, verify_result
 

@@ -69,9 +69,13 @@ def test_square_on_four_pinned_corner_columns_matches_point_supports():
     assert lb is not None and lb <= exact * (1 + 1e-6)
     assert lb >= 0.99 * exact                                     # measured 1 - 6e-5 at "coarse"
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
-    # The fold: one sagging line across the slab does (nearly) all the work.
-    main = r.yield_lines.dissipation.argmax()
-    assert r.yield_lines.sagging[main] and r.yield_lines.dissipation[main] > 0.99 * r.work.internal
+    # The fold: sagging lines along a centre line do (nearly) all the work. By the square's
+    # symmetry the folds along x = L/2 and y = L/2 are equally good, and so is any mix of the
+    # two (the LP has returned either alone and a mix), so the lines may lie on either.
+    yl = r.yield_lines
+    on_centre = np.any([np.all(np.abs(np.stack([yl.start[:, k], yl.end[:, k]]) - L / 2) < 1e-9, axis=0)
+                        for k in (0, 1)], axis=0)
+    assert yl.dissipation[on_centre & yl.sagging].sum() > 0.99 * r.work.internal
 
 
 def test_inset_pinned_corner_columns_fold_about_their_centres():

@@ -40,7 +40,6 @@ from ..model import RESOLUTIONS, Model
 from ..result import CAUTIONS, Result, load_factor_text
 from .record_model import method_items, model_tables
 from .record_tables import (
-    cell,
     certificate_table,
     convergence_rows,
     convergence_table,
