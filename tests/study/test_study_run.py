@@ -9,6 +9,7 @@ import pytest
 
 import hingeline
 from hingeline._cli.main import main
+from hingeline.model import model_from_toml, read_model
 from hingeline.study import run as study_run
 from hingeline.verify import read_result, verify_result
 
