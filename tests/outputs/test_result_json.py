@@ -132,6 +132,25 @@ def test_result_to_dict_contents():
                                       "factored": True, "gamma": 1.0}
 
 
+def test_result_names_project_and_model_file():
+    # The fingerprint is hashlib's SHA-256 of the file's bytes (FIPS 180-4), as the model stores it.
+    import dataclasses
+    import hashlib
+
+    from hingeline.model.types import Project, Source
+
+    res = pyramid_result(continuous_bottom=True)
+    assert result_to_dict(res)["source"] is None                       # built in memory, no file
+    assert result_to_dict(res)["project"]["job"] == ""
+    text = "title = 'bay'\n"
+    model = dataclasses.replace(res.model, project=Project(job="Reading room", checked_by="B. Checker"),
+                                source=Source("bay.toml", hashlib.sha256(text.encode()).hexdigest(), text))
+    d = result_to_dict(dataclasses.replace(res, model=model))
+    assert d["source"] == {"name": "bay.toml", "sha256": hashlib.sha256(b"title = 'bay'\n").hexdigest()}
+    assert d["project"] == {"job": "Reading room", "reference": "", "revision": "", "prepared_by": "",
+                            "checked_by": "B. Checker"}
+
+
 def test_non_finite_floats_become_null():
     res = pyramid_result()
     stats = SolveStats(nodes=5, slab_nodes=5, candidate_lines=10, lp_lines=8, rounds=1,

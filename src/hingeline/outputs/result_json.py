@@ -16,6 +16,7 @@ deflections w in m per kNm of scaled-load work (positive downward).
 """
 from __future__ import annotations
 
+import dataclasses
 import io
 import json
 import logging
@@ -215,7 +216,8 @@ _UNSET = object()
 def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
     """The Result as a JSON-ready dict of plain lists, floats, ints, strings and bools.
 
-    Keys: hingeline_version, title, load_factor, units, yield_lines (list of
+    Keys: hingeline_version, title, project (the [project] table), source ({name, sha256}
+    of the model file, None when not read from a file), load_factor, units, yield_lines (list of
     {start, end, rotation, sense, dissipation, at_support}), work {internal,
     factored, held}, mechanism {vertices, triangles, w}, stats (all SolveStats
     fields), certificate (all CertificateCheck fields), model (the model as solved:
@@ -233,6 +235,9 @@ def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
     return {
         "hingeline_version": hingeline_version(),
         "title": result.model.title,
+        "project": dataclasses.asdict(result.model.project),
+        "source": None if result.model.source is None else {"name": result.model.source.name,
+                                                             "sha256": result.model.source.sha256},
         "load_factor": _float(result.load_factor),
         "units": dict(UNITS),
         "yield_lines": _yield_lines_to_list(result),
