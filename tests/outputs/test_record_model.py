@@ -276,12 +276,19 @@ def test_solver_status_in_words(status, words):
         assert "re-check" in text
 
 
+def test_solver_status_says_how_the_re_check_ended():
+    assert "stands only if the re-check passes" in status_words("AlmostSolved")
+    assert "re-checked independently and passed" in status_words("AlmostSolved", True)
+    assert "did not pass" in status_words("AlmostSolved", False)
+    assert status_words("Solved", True) == status_words("Solved")        # nothing to add when solved
+
+
 def test_lower_bound_table_explains_the_status(one_way):
     _, result, _ = one_way
     lb = dataclasses.replace(result.lower_bound, status="AlmostSolved")
     table = lower_bound_table(dataclasses.replace(result, lower_bound=lb))
     assert "loosened tolerances" in table["check"]["status_text"]
-    assert "only if the re-check passes" in table["check"]["status_text"]
+    assert "re-checked independently and passed" in table["check"]["status_text"]   # it did pass
 
 
 def test_yield_line_table_matches_the_closed_form(one_way):

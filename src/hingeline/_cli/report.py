@@ -58,7 +58,7 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     if lb is not None and lb.status and lb.status != "Solved":
         from ..outputs.record_tables import status_words
 
-        p(f"  cone solver {status_words(lb.status)}")
+        p(f"  cone solver {status_words(lb.status, lb.load_factor is not None)}")
     p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
     p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
       f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")

@@ -63,11 +63,17 @@ def ordered(labels) -> list[str]:
     return sorted(labels, key=lambda k: (rank.get(k, len(RESOLUTIONS)), k))
 
 
-def status_words(status: str) -> str:
-    """The cone solver's status word and what it means for the lower bound, in a sentence."""
+def status_words(status: str, passed: bool | None = None) -> str:
+    """The cone solver's status word and what it means for the lower bound, in a sentence;
+    passed: the outcome of the field's re-check when known (it then replaces the general
+    remark that the bound stands only if the re-check passes)."""
     meaning = _STATUS_WORDS.get(str(status))
     if meaning is None:
         meaning = "the solver stopped without meeting its tolerances." + _RECHECK
+    if passed is not None and meaning.endswith(_RECHECK):
+        meaning = meaning[: -len(_RECHECK)] + (
+            " The field was re-checked independently and passed, so the lower bound stands." if passed else
+            " The field was re-checked independently and did not pass, so it proves no lower bound.")
     return f"{status}: {meaning}"
 
 
@@ -248,7 +254,8 @@ def lower_bound_table(res: Result) -> dict:
         out["check"] = {
             "rows": [{"name": name, "cell": cell(value, _CHECK_FORMATS.get(name, _CHECK_FORMAT))}
                      for name, value in chk.items()],
-            "verdict": verdict, "status": lb["status"], "status_text": status_words(lb["status"]),
+            "verdict": verdict, "status": lb["status"],
+            "status_text": status_words(lb["status"], None if verdict is None else verdict["passes"]),
             "seconds": f"{lb['seconds']:.2f}"}
     if lb["computed"] and lb["status"]:
         out["status_text"] = status_words(lb["status"])
