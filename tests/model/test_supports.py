@@ -68,6 +68,8 @@ def test_columns_alone_may_support_a_slab_with_free_edges():
         ({"column": [{"at": [3, 2], "size": [0.4, 0.4], "diameter": 0.4}]}, "column[1]: give either size"),
         ({"column": [{"at": [3, 2], "size": [0.4, 0]}]}, "column[1].size must be two lengths > 0"),
         ({"column": [{"at": [3, 2], "diameter": -0.4}]}, "column[1].diameter must be > 0"),
+        ({"column": [{"at": [3, 2], "size": 0.4}]}, "column[1].size must be a pair of numbers [bx, by]"),
+        ({"column": [{"at": [[3, 2]], "size": [0.4, 0.4]}]}, "column[1].at must be a pair of numbers [x, y] (m), got"),
         ({"column": [{"at": [3, 2], "diameter": 0.4, "name": ""}]}, "column[1].name"),
         ({"column": [{"at": [1.0, 1.0], "size": [0.4, 0.4]}]}, "column[1] lies partly under slab.opening[1]"),
         ({"wall": [{"path": [[1, 3]]}]}, "wall[1].path needs at least two points"),

@@ -21,7 +21,7 @@ from shapely.geometry import Polygon
 
 from .polygons import Geometry, clean_polygon, counter_clockwise, where_is
 from .types import AreaLoad, LineLoad, LoadCase, PointLoad
-from .values import Invalid, check_keys, fmt, frozen, number, points, pt, show, tables, words
+from .values import Invalid, check_keys, fmt, frozen, number, pair, points, pt, show, tables, words
 
 # Keys allowed in a [[load]] table, per load type.
 LOAD_KEYS = {
@@ -143,7 +143,7 @@ def _parse_point_load(t: dict, where: str, geo: Geometry, index: int) -> PointLo
     name, named, value, scaled, gamma = _load_common(t, where, index, "kN", "a point load")
     if "at" not in t:
         raise Invalid(f"{where}{named} has no at; add at = [x, y] (m)")
-    at = points([t["at"]], f"{where}.at{named}")[0]
+    at = pair(t["at"], f"{where}.at{named}")
     _on_slab(shapely.Point(at), f"{where}.at{named} = {pt(at)}", geo)
     return PointLoad(value=value, at=frozen(np.array(at, float)), factored=scaled, name=name, gamma=gamma)
 

@@ -19,7 +19,7 @@ from shapely.geometry import Polygon
 
 from .polygons import Geometry, clean_polygon, counter_clockwise, where_is
 from .types import Support, Zone
-from .values import Invalid, fmt, frozen, moment_pair, number, points, pt, show, tables, words
+from .values import Invalid, fmt, frozen, moment_pair, number, pair, points, pt, show, tables, words
 
 COLUMN_KEYS = ("at", "size", "diameter", "connection", "name")
 WALL_KEYS = ("path", "thickness", "connection", "name")
@@ -64,11 +64,11 @@ def _column_footprint(t: dict, where: str):
     """(footprint polygon, centre (2,)) of a [[column]], m."""
     if "at" not in t:
         raise Invalid(f"{where} has no at; add at = [x, y] (m), the column's centre")
-    centre = points([t["at"]], f"{where}.at")[0]
+    centre = pair(t["at"], f"{where}.at")
     if ("size" in t) == ("diameter" in t):
         raise Invalid(f"{where}: give either size = [bx, by] (m, rectangular) or diameter = <m> (round)")
     if "size" in t:
-        size = points([t["size"]], f"{where}.size")[0]
+        size = pair(t["size"], f"{where}.size", "[bx, by] (m; a square column of side b: [b, b])")
         if min(size) <= 0:
             raise Invalid(f"{where}.size must be two lengths > 0 (m)")
         bx, by = size / 2

@@ -109,6 +109,17 @@ def points(x: Any, where: str) -> np.ndarray:
     return out
 
 
+def pair(x: Any, where: str, what: str = "[x, y] (m)") -> np.ndarray:
+    """One pair of finite numbers as a (2,) float64 array; `what` names the pair in messages."""
+    if isinstance(x, np.ndarray):
+        x = x.tolist()
+    if not isinstance(x, (list, tuple)) or len(x) != 2 or not all(is_number(c) for c in x):
+        raise Invalid(f"{where} must be a pair of numbers {what}, got {show(x)}")
+    if not all(math.isfinite(float(c)) for c in x):
+        raise Invalid(f"{where} is {show(x)}; both numbers must be finite")
+    return np.array([float(x[0]), float(x[1])])
+
+
 def frozen(a: np.ndarray) -> np.ndarray:
     """A read-only contiguous float64 copy (or view) of `a`."""
     a = np.ascontiguousarray(a, dtype=np.float64)
