@@ -675,7 +675,7 @@ def optimise_layout(model: Model, lay: Layout, size: float, budget: float = TIME
         res = minimize(f, z0, jac=fjac, method="SLSQP", bounds=prob.bounds(z0),
                        constraints=[{"type": "eq", "fun": eq, "jac": eqjac},
                                     {"type": "ineq", "fun": ineq, "jac": ineqjac}],
-                       callback=callback, options={"maxiter": 200, "ftol": 1e-11})
+                       callback=callback, options={"maxiter": 200, "ftol": 1e-10})
         z = res.x
     except _UseSLP:
         z = _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, prob.bounds(z0), prob, start + budget)
