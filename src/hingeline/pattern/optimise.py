@@ -47,8 +47,15 @@ from .regions import PLANE_RTOL, Region, moving_region
 
 log = logging.getLogger(__name__)
 
-#: Wall-clock budget of one optimisation, s.
-TIME_BUDGET = 4.0
+#: Largest misfit of the planes at a shared point after `_restore`, as a fraction of the
+#: largest w (the hand check refuses 1e-8).
+RESTORE_TOL = 1e-10
+#: Iteration limits: the result depends on these, not on the machine's speed.
+SLSQP_MAX_ITER = 60
+SLP_MAX_STEPS = 10
+#: Wall-clock safety limit of one optimisation, s (reached only on a slow machine; the
+#: iteration limits above normally end it first, so results are reproducible).
+TIME_BUDGET = 6.0
 #: Points closer than this fraction of the slab's size after optimisation are merged.
 MERGE_RTOL = 1e-3
 #: A region (or ring) with less than this fraction of the slab's area after merging has vanished.
@@ -568,7 +575,9 @@ def _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, bounds, prob, deadline) -> np.nd
     z = z0.copy()
     mz = merit(z)
     i0 = prob.internal(*prob.unpack(z0))
-    while time.monotonic() < deadline and delta[:npt].max(initial=dmin) > dmin:
+    for _ in range(SLP_MAX_STEPS):
+        if time.monotonic() > deadline or delta[:npt].max(initial=dmin) <= dmin:
+            break
         P, C = prob.unpack(z)
         c, J = eq(z), eqjac(z)
         a, A = ineq(z), ineqjac(z)
@@ -595,7 +604,7 @@ def _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, bounds, prob, deadline) -> np.nd
             continue
         dz = res.x[:n]
         predicted = mz - float(res.fun)
-        zn = _correct(eq, eqjac, z + dz, lo, hi)
+        zn = _correct(eq, J, z + dz, lo, hi)
         mn = merit(zn)
         log.debug("slp: merit %.9g predicted %.3g actual %.3g delta %.3g f %.6g->%.6g lin %.6g eq %.3g lin %.3g", mz, predicted, mz - mn, delta[:npt].max(initial=0), f(z), f(zn), float(res.x[n:n + 2 * k] @ cost[n:n + 2 * k]), np.abs(eq(zn)).sum(), np.abs(c + J @ dz).sum())
         if predicted > 1e-12 and mn < mz - 0.1 * predicted:
@@ -606,16 +615,22 @@ def _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, bounds, prob, deadline) -> np.nd
     return z
 
 
-def _correct(eq, eqjac, z, lo, hi, steps: int = 3) -> np.ndarray:
-    """Second-order correction of an SLP step: minimum-norm Gauss-Newton steps back onto the
-    equalities (compatibility is bilinear in points and planes, so a step leaves a residual
-    of the order of its square)."""
+def _correct(eq, J, z, lo, hi, steps: int = 4) -> np.ndarray:
+    """Second-order correction of an SLP step: minimum-norm steps back onto the equalities
+    with the step's Jacobian J (compatibility is bilinear in points and planes, so a step
+    leaves a residual of the order of its square)."""
+    A = J @ J.T
+    A[np.diag_indices_from(A)] += 1e-12 * max(float(np.trace(A)) / max(len(A), 1), 1e-300)
+    try:
+        cho = np.linalg.cholesky(A)
+    except np.linalg.LinAlgError:
+        return z
     for _ in range(steps):
         c = eq(z)
         if np.abs(c).max(initial=0.0) < 1e-13:
             break
-        dz = np.linalg.lstsq(eqjac(z), -c, rcond=1e-12)[0]
-        z = np.clip(z + dz, lo, hi)
+        y = np.linalg.solve(cho.T, np.linalg.solve(cho, -c))
+        z = np.clip(z + J.T @ y, lo, hi)
     return z
 
 
@@ -675,7 +690,7 @@ def optimise_layout(model: Model, lay: Layout, size: float, budget: float = TIME
         res = minimize(f, z0, jac=fjac, method="SLSQP", bounds=prob.bounds(z0),
                        constraints=[{"type": "eq", "fun": eq, "jac": eqjac},
                                     {"type": "ineq", "fun": ineq, "jac": ineqjac}],
-                       callback=callback, options={"maxiter": 200, "ftol": 1e-10})
+                       callback=callback, options={"maxiter": SLSQP_MAX_ITER, "ftol": 1e-10})
         z = res.x
     except _UseSLP:
         z = _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, prob.bounds(z0), prob, start + budget)
@@ -729,24 +744,27 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
         P2[r] = lay.points[fx[0]] if fx.size else P[members].mean(axis=0)
     slab_area = float(slab_region(model).area)
     kept: list[tuple[list[np.ndarray], int]] = []
+    slivers: list[list[np.ndarray]] = []
     for r, rr in enumerate(lay.rings):
         new = []
         for j, ring in enumerate(rr):
-            idx = root[ring]
-            idx = idx[np.r_[True, idx[1:] != idx[:-1]]]
-            if len(idx) > 1 and idx[0] == idx[-1]:
-                idx = idx[:-1]
-            # A ring that closed up (or a sliver left of it) has vanished.
-            if len(idx) < 3 or abs(_signed_area(P2[idx])) <= sliver * slab_area:
+            idx = _despike(root[ring])
+            # A ring that closed up has vanished; a sliver left of a region joins a neighbour.
+            if len(idx) < 3 or abs(_signed_area(P2[idx])) <= 1e-12 * slab_area:
                 if j == 0:
                     new = []
                     break
                 continue
             new.append(idx)
-        if new:
+        if not new:
+            continue
+        if abs(_signed_area(P2[new[0]])) <= sliver * slab_area and len(new) == 1:
+            slivers.append(new)
+        else:
             kept.append((new, r))
     if not kept:
         return None
+    kept = _absorb(kept, slivers, P2, size)
     # Points inside the slab that no longer join three regions are bends of a line between
     # two planes (which is straight) or corners of a vanished sliver: they go when the turn
     # there is small.
@@ -780,7 +798,8 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
 def _restore(prob: _Problem, lay: Layout) -> Layout | None:
     """The layout made exactly compatible by alternating projections: the planes projected
     onto the compatible motions of the current points, then each movable point put where its
-    regions' planes meet (least squares), until the planes fit to 1e-12 of the largest w."""
+    regions' planes meet (least squares), until the planes fit to RESTORE_TOL of the largest
+    w (the hand check allows 1e-8)."""
     P = lay.points.copy()
     cur = lay
     for it in range(60):
@@ -789,7 +808,7 @@ def _restore(prob: _Problem, lay: Layout) -> Layout | None:
             return None
         cur = Layout(P, lay.rings, planes, lay.at_rest)
         res = np.abs(prob.compat(P, planes)).max(initial=0.0)
-        if res <= 1e-12:
+        if res <= RESTORE_TOL:
             return cur
         P = _place_points(prob, P, planes)
         cur = Layout(P, lay.rings, planes, lay.at_rest)
@@ -824,6 +843,56 @@ def _place_points(prob: _Problem, P: np.ndarray, C: np.ndarray) -> np.ndarray:
             t = float(np.clip((A @ rhs) / (A @ A), 0.0, 1.0))
             P[i] = s0 + t * d
     return P
+
+
+def _despike(idx: np.ndarray) -> np.ndarray:
+    """A ring of point indices without repeats in a row and without spikes (a, b, a)."""
+    idx = np.asarray(idx)
+    while True:
+        idx = idx[np.r_[True, idx[1:] != idx[:-1]]]
+        if len(idx) > 1 and idx[0] == idx[-1]:
+            idx = idx[:-1]
+        if len(idx) < 3:
+            return idx
+        spike = np.flatnonzero(np.roll(idx, 1) == np.roll(idx, -1))
+        if not spike.size:
+            return idx
+        k = int(spike[0])
+        idx = np.delete(idx, [k, (k + 1) % len(idx)] if k + 1 < len(idx) else [k, 0])
+
+
+def _absorb(kept, slivers, P, size):
+    """Each sliver (rings of point indices) joined to the kept region it shares the most
+    boundary with (polygon union), so that no gap is left where it was."""
+    def sides(idx):
+        return {tuple(sorted((int(a), int(b)))) for a, b in zip(idx, np.roll(idx, -1))}
+
+    for sl in slivers:
+        mine = sides(sl[0])
+        best, shared = -1, 0
+        for k, (new, _r) in enumerate(kept):
+            n = sum(len(mine & sides(idx)) for idx in new)
+            if n > shared:
+                best, shared = k, n
+        if best < 0:
+            continue
+        new, r = kept[best]
+        poly = shapely.Polygon(P[new[0]], [P[h] for h in new[1:]]).union(shapely.Polygon(P[sl[0]]))
+        poly = shapely.make_valid(poly)
+        if poly.geom_type != "Polygon":
+            continue
+        poly = shapely.geometry.polygon.orient(poly, 1.0)
+
+        def to_idx(ring):
+            c = np.asarray(ring.coords)[:-1]
+            d = np.hypot(*(c[:, None, :] - P[None]).transpose(2, 0, 1))
+            idx = np.argmin(d, axis=1)
+            return idx[np.r_[True, idx[1:] != idx[:-1]]]
+
+        rings = [to_idx(poly.exterior)] + [to_idx(h) for h in poly.interiors]
+        if all(len(x) >= 3 for x in rings):
+            kept[best] = (rings, r)
+    return kept
 
 
 def _on_boundary(model: Model, P: np.ndarray, size: float) -> np.ndarray:
