@@ -55,7 +55,7 @@ SLSQP_MAX_ITER = 60
 SLP_MAX_STEPS = 10
 #: Wall-clock safety limit of one optimisation, s (reached only on a slow machine; the
 #: iteration limits above normally end it first, so results are reproducible).
-TIME_BUDGET = 6.0
+TIME_BUDGET = 3.0
 #: Points closer than this fraction of the slab's size after optimisation are merged.
 MERGE_RTOL = 1e-3
 #: A region (or ring) with less than this fraction of the slab's area after merging has vanished.
@@ -346,7 +346,7 @@ class _Problem:
         """Every side's theta L (k,), its derivatives (k, nvar), its sagging and hogging
         capacities (k,) at the current directions, and its weight (hogging share on supports;
         sides on supports count hogging only)."""
-        rows, J, mp, mm, wt, hog = [], [], [], [], [], []
+        rows, J, mp, mm, wt = [], [], [], [], []
         parts = []
         if len(self.inner):
             a, b, r, s = self.inner.T
