@@ -166,7 +166,8 @@ def plot_clean_pattern(result: Result, ax: Axes | None = None, pattern=None) -> 
     raw = cp.raw_load_factor
     how = "optimised" if cp.optimised else "as read"
     title = (f"{result.model.title or 'Untitled model'}\nclean pattern ({how}): load factor = {cp.load_factor:.4g}"
-             f" (raw mechanism {raw:.4g}); {len(lines)} lines, {len(cp.fans)} fans")
+             f" (raw mechanism {raw:.4g}); {len(lines)} line{'s' if len(lines) != 1 else ''}, "
+             f"{len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}")
     ax.set_title(title, fontsize=9)
     handles = []
     if any(ln.sense == "sagging" for ln in lines):
@@ -183,6 +184,6 @@ def plot_clean_pattern(result: Result, ax: Axes | None = None, pattern=None) -> 
     handles.append(Line2D([], [], color="none", label="n: yield line number (most work first)"))
     if unlabelled > 0 or small > 0:
         handles.append(Line2D([], [], color="none",
-                              label=f"unlabelled: {unlabelled} minor lines, {small} small regions (see record)"))
+                              label=f"unlabelled: {unlabelled} minor line(s), {small} small region(s) (see record)"))
     legend_below(ax, handles)
     return ax
