@@ -47,6 +47,8 @@ from .regions import PLANE_RTOL, Region, moving_region
 
 log = logging.getLogger(__name__)
 
+#: Smallest relative fall of the internal work (at unit load work) worth certifying.
+MIN_GAIN = 1e-5
 #: Largest misfit of the planes at a shared point after `_restore`, as a fraction of the
 #: largest w (the hand check refuses 1e-8).
 RESTORE_TOL = 1e-10
@@ -704,8 +706,8 @@ def optimise_layout(model: Model, lay: Layout, size: float, budget: float = TIME
         z = best[0]
     log.info("pattern optimisation: internal work %.6g of the start at unit load work (%.2f s)",
              f(z), time.monotonic() - start)
-    if f(z) >= 1.0 - 1e-9:
-        return None
+    if f(z) >= 1.0 - MIN_GAIN:
+        return None        # too little to gain for a certification (and a busier pattern)
     P, C = prob.unpack(z)
     return P, C
 
