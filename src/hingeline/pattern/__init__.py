@@ -20,6 +20,7 @@ May import: `hingeline.model`, `hingeline.geometry`, `hingeline.upper`, `hingeli
 from __future__ import annotations
 
 import logging
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -31,7 +32,7 @@ from ..result import Mechanism
 from ..upper.certificate import CERTIFICATE_RTOL
 from .handfile import hand_pattern_text, region_names
 from .lines import CleanLine, Fan, clean_lines, find_fans, region_junctions
-from .optimise import TIDY_SETTINGS, layout_junctions, layout_of, layout_regions, optimise_layout, tidy
+from .optimise import TIDY_SETTINGS, TIME_BUDGET, layout_junctions, layout_of, layout_regions, optimise_layout, tidy
 from .regions import Region, find_regions, thin_rings
 
 __all__ = ["CleanLine", "CleanPattern", "Fan", "Region", "clean_pattern", "optimise_pattern"]
@@ -102,12 +103,16 @@ def optimise_pattern(model: Model, cp: CleanPattern) -> CleanPattern | None:
     wmax = max((reg.max_deflection for reg in cp.regions), default=0.0) or 1.0
     lay = layout_of([list(r) for r in cp.rings], np.array([reg.plane for reg in cp.regions]) / wmax,
                     np.array([reg.at_rest for reg in cp.regions]), size)
+    start = time.monotonic()
     moved = optimise_layout(model, lay, size)
     if moved is None:
         return None
     ceiling = min(cp.load_factor, cp.raw_load_factor)
     best = None
-    for merge, sliver, bend in TIDY_SETTINGS:
+    for k, (merge, sliver, bend) in enumerate(TIDY_SETTINGS):
+        if k and time.monotonic() - start > 2 * TIME_BUDGET:
+            log.info("pattern optimisation: out of time for further certification attempts")
+            break
         new = tidy(model, lay, *moved, size, merge, sliver, bend)
         if new is None:
             continue
