@@ -137,3 +137,48 @@ def number_errors(stored: dict, check: CertificateCheck, rtol: float) -> list[st
         upper, lower = float(stored["load_factor"]), float(lb["load_factor"])
         compare("lower_bound.gap", lb["gap"], (upper - lower) / upper, 1.0)
     return errors
+
+
+def pattern_errors(model: Model, stored: dict, rtol: float) -> list[str]:
+    """The stored clean pattern (result.json `pattern`) re-checked by the hand check's work
+    equation: its regions written as a hand-pattern file (each plane by three corners) and
+    checked; its load factor must agree, and never lie above the raw mechanism's."""
+    pat = stored.get("pattern")
+    if not pat:
+        return []
+    from .check import check_pattern, pattern_from_toml
+    from .errors import HingelineError
+
+    def pts(ring) -> str:
+        return "[" + ", ".join(f"[{float(x)!r}, {float(y)!r}]" for x, y in ring) + "]"
+
+    try:
+        lines = ['title = "stored pattern"']
+        regions = [(r["polygon"], r["plane"]) for r in pat["regions"]] + [(p, None) for p in pat.get("at_rest", [])]
+        for k, (poly, plane) in enumerate(regions):
+            ext = np.asarray(poly["exterior"], float)
+            lines += ["", "[[region]]", f'name = "{k + 1}"', f"polygon = {pts(ext)}"]
+            if poly.get("holes"):
+                lines.append("holes = [" + ", ".join(pts(h) for h in poly["holes"]) + "]")
+            a = 0
+            b = int(np.argmax(np.hypot(*(ext - ext[a]).T)))
+            d = ext[b] - ext[a]
+            c = int(np.argmax(np.abs(d[0] * (ext[:, 1] - ext[a, 1]) - d[1] * (ext[:, 0] - ext[a, 0]))))
+            corners = ext[[a, b, c]]
+            w = np.zeros(3) if plane is None else float(plane[0]) + corners @ np.asarray(plane[1:], float)
+            lines.append("deflections = [" + ", ".join(f"[{p[0]!r}, {p[1]!r}, {float(wi)!r}]"
+                                                      for p, wi in zip(corners.tolist(), w)) + "]")
+        hc = check_pattern(model, pattern_from_toml("\n".join(lines) + "\n", source="stored pattern"), optimise=False)
+        lf = float(pat["load_factor"])
+    except (HingelineError, KeyError, TypeError, ValueError, IndexError) as exc:
+        return [f"pattern: the stored pattern does not re-check ({type(exc).__name__}: {exc})"]
+    errors = []
+    if not abs(lf - hc.load_factor) <= rtol * max(abs(hc.load_factor), 1e-300):
+        errors.append(f"pattern.load_factor: stored {lf:.8g}, re-checked by the work equation {hc.load_factor:.8g}")
+    raw = pat.get("raw_load_factor")
+    upper = float(stored.get("load_factor", float("nan")))
+    if raw is not None and not abs(float(raw) - upper) <= rtol * abs(upper):
+        errors.append(f"pattern.raw_load_factor: stored {float(raw):.8g}, the result's load factor is {upper:.8g}")
+    if hc.load_factor > upper * (1 + rtol):
+        errors.append(f"pattern: its re-checked load factor {hc.load_factor:.8g} is above the raw mechanism's {upper:.8g}")
+    return errors

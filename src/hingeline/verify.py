@@ -19,7 +19,7 @@ from .geometry.domain import build_domain
 from .lower import FieldCheck, MomentField, check_field
 from .model import Model, model_for_case
 from .result import CertificateCheck, Mechanism
-from .stored import model_differences, number_errors, yield_line_errors
+from .stored import model_differences, number_errors, pattern_errors, yield_line_errors
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 
 # Relative agreement required between a stored load factor and its re-check.
@@ -102,7 +102,7 @@ def verify_result(model: Model, data: dict, where: str = "result.json") -> Verif
         raise ForeignResult(f"{where}: {foreign[0]}")
     upper_check = check_mechanism(model, mechanism)
     stored = (*yield_line_errors(model, mechanism, data.get("yield_lines") or [], RTOL),
-              *number_errors(data, upper_check, RTOL))
+              *number_errors(data, upper_check, RTOL), *pattern_errors(model, data, RTOL))
     lower = solved = lower_check = proven = None
     if lb and lb.get("load_factor") is not None:
         lower, solved = float(lb["load_factor"]), float(lb["solved"])

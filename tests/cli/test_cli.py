@@ -200,8 +200,8 @@ def test_solve_writes_outputs_and_prints_summary(tmp_path, capsys, fake_solver):
     assert fake_solver.calls[0]["resolution"] == "fine"
     assert fake_solver.calls[0]["lower_bound"] is True
     assert fake_solver.calls[0]["model"].title == "CLI test slab"
-    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "pattern.png",
-                                                        "pattern.svg", "result.json"]
+    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "mechanism.png",
+                                                        "mechanism.svg", "pattern.png", "pattern.svg", "result.json"]
     data = json.loads((outdir / "result.json").read_text(encoding="utf-8"))
     expected = fan_result(read_model(model)).load_factor
     assert data["load_factor"] == expected

@@ -70,8 +70,9 @@ def test_drawings_of_an_earlier_run_are_removed(tmp_path, capsys, fake_solver):
     for name in ("utilisation.png", "utilisation.svg", "pattern.pdf", "notes.txt"):
         (outdir / name).write_text("from an earlier run", encoding="utf-8")
     assert main(["solve", str(model), "-o", str(outdir), "--no-lower-bound"]) == 0
-    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "notes.txt",
-                                                        "pattern.png", "pattern.svg", "result.json"]
+    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "mechanism.png",
+                                                        "mechanism.svg", "notes.txt", "pattern.png", "pattern.svg",
+                                                        "result.json"]
     assert (outdir / "notes.txt").read_text(encoding="utf-8") == "from an earlier run"
 
 

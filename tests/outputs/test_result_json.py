@@ -176,7 +176,7 @@ def test_write_outputs_creates_json_and_both_plots(tmp_path):
     res = pyramid_result(continuous_bottom=True)
     outdir = tmp_path / "nested" / "out"
     paths = write_outputs(res, outdir)
-    assert sorted(p.name for p in paths) == ["deflection.png", "pattern.png", "result.json"]
+    assert sorted(p.name for p in paths) == ["deflection.png", "mechanism.png", "pattern.png", "result.json"]
     data = json.loads((outdir / "result.json").read_text(encoding="utf-8"))
     assert data["load_factor"] == res.load_factor
     png = (outdir / "pattern.png").read_bytes()
@@ -186,13 +186,13 @@ def test_write_outputs_creates_json_and_both_plots(tmp_path):
     assert defl[:8] == b"\x89PNG\r\n\x1a\n" and len(defl) > 10_000
     assert defl != png
     # no temp files left
-    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "pattern.png", "result.json"]
+    assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "mechanism.png", "pattern.png", "result.json"]
 
 
 def test_write_outputs_other_formats(tmp_path):
     paths = write_outputs(pyramid_result(), tmp_path, formats=("svg", "pdf"))
-    assert sorted(p.name for p in paths) == ["deflection.pdf", "deflection.svg", "pattern.pdf", "pattern.svg",
-                                             "result.json"]
+    assert sorted(p.name for p in paths) == ["deflection.pdf", "deflection.svg", "mechanism.pdf", "mechanism.svg",
+                                             "pattern.pdf", "pattern.svg", "result.json"]
     for stem in ("pattern", "deflection"):
         assert (tmp_path / f"{stem}.pdf").read_bytes()[:5] == b"%PDF-"
         assert b"<svg" in (tmp_path / f"{stem}.svg").read_bytes()[:2000]
@@ -200,8 +200,8 @@ def test_write_outputs_other_formats(tmp_path):
 
 def test_write_outputs_png_and_svg_are_the_same_plots(tmp_path):
     write_outputs(pyramid_result(), tmp_path, formats=("png", "svg"))
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["deflection.png", "deflection.svg", "pattern.png",
-                                                          "pattern.svg", "result.json"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["deflection.png", "deflection.svg", "mechanism.png",
+                                                          "mechanism.svg", "pattern.png", "pattern.svg", "result.json"]
     # the contour plot's colour-bar label and the pattern's legend are in the SVG text
     assert b"w / w_max" in (tmp_path / "deflection.svg").read_bytes()
     assert b"sagging yield line" in (tmp_path / "pattern.svg").read_bytes()
@@ -210,10 +210,10 @@ def test_write_outputs_png_and_svg_are_the_same_plots(tmp_path):
 def test_write_outputs_writes_nothing_when_the_second_plot_fails(tmp_path, monkeypatch):
     real = output._render_plot
 
-    def fails_on_deflection(result, fmt, kind="pattern"):
+    def fails_on_deflection(result, fmt, kind="pattern", *rest):
         if kind == "deflection":
             raise RuntimeError("rendering failed")
-        return real(result, fmt, kind)
+        return real(result, fmt, kind, *rest)
 
     monkeypatch.setattr(output, "_render_plot", fails_on_deflection)
     outdir = tmp_path / "out"

@@ -167,7 +167,9 @@ def test_solved_slabs_reproduce_through_the_hand_file(name, tmp_path):
     cp = clean_pattern(res.model, res.mechanism, res.load_factor)
     assert cp is not None, name
     # The regions are the mechanism's planes: the work equation agrees with the solve ...
-    assert cp.load_factor == pytest.approx(res.load_factor, rel=1e-6)
+    assert cp.clean_load_factor == pytest.approx(res.load_factor, rel=1e-6)
+    # ... and moving the junctions never raises it.
+    assert cp.load_factor <= res.load_factor * (1 + 1e-9)
     # ... and the hand check of the file written reproduces it.
     assert _reproduced(res.model, cp, tmp_path) == pytest.approx(cp.load_factor, rel=1e-6)
     # The regions cover the slab (openings and supports excepted) without overlap.

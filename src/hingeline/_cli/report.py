@@ -32,6 +32,20 @@ def check_outdir(outdir: Path) -> None:
                           "choose another folder with -o")
 
 
+def pattern_line(result: Result) -> str:
+    """The clean pattern in one line: its lines and fans and its certified load factor."""
+    from ..outputs.result_json import clean_pattern_of
+
+    cp = clean_pattern_of(result)
+    if cp is None:
+        return "the mechanism reads as no clean pattern; see mechanism.png"
+    how = (f"optimised from {load_factor_text(cp.clean_load_factor)}" if cp.optimised
+           else "as read")
+    fans = f", {len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}" if cp.fans else ""
+    return (f"clean pattern: {len(cp.lines)} yield lines{fans}, {sum(not r.at_rest for r in cp.regions)} moving "
+            f"regions; load factor {load_factor_text(cp.load_factor)} ({how}; certified by the work equation)")
+
+
 def print_summary(result: Result, paths: list[Path], out=None) -> None:
     """Print the load factor and a short summary of the solve."""
     out = out or sys.stdout
@@ -66,6 +80,7 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     verdict = "agrees" if certificate_agrees(result) else "DOES NOT AGREE - do not use this result"
     p(f"  certificate load factor re-checked from the mechanism = {chk.load_factor:.6g} ({verdict}); "
       f"largest |w| on supports {chk.max_support_w:.1e}")
+    p("  pattern     " + pattern_line(result))
     for lc in result.model.capacity.layers:
         p(f"  bars        {lc.name}: {lc.area:.0f} mm2/m, d = {lc.d:.0f} mm, x_u/d = {lc.xu_d:.3f}, "
           f"M_Rd = {lc.moment:.2f} kNm/m (EN 1992-1-1)")

@@ -10,10 +10,11 @@ from ..model import RESOLUTIONS, read_model
 from ..result import Result
 from . import report
 
-#: Plot formats the command line writes (each as pattern.<fmt> and deflection.<fmt>).
+#: Plot formats the command line writes (each as pattern.<fmt>, mechanism.<fmt> and deflection.<fmt>).
 CLI_FORMATS = ("png", "svg")
 
-HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (yield lines), "
+HELP = ("solve a model file; write OUTDIR/result.json, pattern.png/.svg (the clean pattern), "
+        "mechanism.png/.svg (the raw mechanism's yield lines), "
         "deflection.png/.svg (deflected shape), hand-pattern.toml (the mechanism as rigid regions, "
         "for hingeline check) and pattern.dxf (the clean yield lines)")
 

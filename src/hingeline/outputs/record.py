@@ -122,8 +122,18 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
     caption of each drawing available) and, when the lower bound has a moment field, the
     utilisation drawing of section 7 (number and uri; else None)."""
     from . import plots as plot
+    from .result_json import clean_pattern_of
 
-    out = [("Yield-line pattern (plan)", _figure_svg(plot.plot_pattern, result),
+    cp = clean_pattern_of(result)
+    out = []
+    if cp is not None:
+        out.append(("Clean yield-line pattern (plan)",
+                    _figure_svg(lambda r, ax: plot.plot_clean_pattern(r, ax=ax, pattern=cp), result),
+                    "The mechanism read as rigid regions (lettered A, B, ... as in the region table) and "
+                    "straight yield lines (numbered as in the line table of the clean pattern)"
+                    + (", its junctions moved to lower the load factor and the result certified by the "
+                       "work equation" if cp.optimised else "") + "."))
+    out += [("Yield-line pattern of the raw mechanism (plan)", _figure_svg(plot.plot_pattern, result),
             "Sagging yield lines solid dark red, hogging dash-dot dark blue, hogging hinges along supports "
             "dashed just inside them; line weight grows with rotation. The lines that make 95 % of the "
             "internal work carry their numbers (table below). Grey shading: w / w_max of the mechanism; "
@@ -143,6 +153,49 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
         utilisation = {"number": len(figures) + 1,
                        "uri": _figure_svg(plot.plot_utilisation, result, UTILISATION_FOOTER)}
     return figures, utilisation
+
+
+# --- clean pattern ---------------------------------------------------------------------
+
+
+def pattern_tables(model: Model, result: Result) -> dict | None:
+    """The clean pattern as a hand calculation: region rows (letter, area, axis, deflection,
+    slope, dissipation, external work), totals, load factors (raw, clean, optimised) and its
+    lines by number; None when the mechanism reads as no clean pattern."""
+    from ..pattern.table import region_rows
+    from .pattern_plan import labelled_items, region_letters
+    from .result_json import clean_pattern_of
+
+    cp = clean_pattern_of(result)
+    if cp is None:
+        return None
+    rows, total = region_rows(model, cp)
+    letters = region_letters(cp)
+    fans, numbered = labelled_items(cp)
+
+    scale = max(abs(total["dissipation"]), abs(total["scaled"]), 1e-300)
+
+    def f(x, digits=4):
+        return "0" if abs(x) <= 1e-9 * scale else f"{x:.{digits}g}"
+
+    return {
+        "raw": load_factor_text(cp.raw_load_factor, 4), "clean": load_factor_text(cp.clean_load_factor, 4),
+        "load_factor": load_factor_text(cp.load_factor, 4), "optimised": cp.optimised,
+        "regions": [{"letter": letters[r.index] or "rest", "area": f"{r.area:.3f}", "axis": r.axis,
+                     "deflection": f"{r.deflection:.3f}", "slope": f(r.slope),
+                     "dissipation": f(r.dissipation), "scaled": f(r.scaled_work), "held": f(r.held_work)}
+                    for r in rows if not (cp.regions[r.index].at_rest and r.dissipation == 0)],
+        "total": {"dissipation": f(total["dissipation"]), "scaled": f(total["scaled"]),
+                  "held": f(total["held"]), "load_factor": load_factor_text(total["load_factor"], 4)},
+        "lines": [{"number": ln.number, "start": f"({ln.start[0]:.3f}, {ln.start[1]:.3f})",
+                   "end": f"({ln.end[0]:.3f}, {ln.end[1]:.3f})", "length": f"{ln.length:.3f}",
+                   "sense": ln.sense + (" (support)" if ln.at_support else ""),
+                   "share": f"{100 * ln.share:.1f}", "labelled": ln.number in numbered}
+                  for ln in cp.lines],
+        "fans": [{"label": f"F{i + 1}", "apex": f"({fan.apex[0]:.3f}, {fan.apex[1]:.3f})",
+                  "rays": ", ".join(map(str, fan.rays)), "angle": f"{fan.angle:.0f}",
+                  "share": f"{100 * fan.share:.1f}"} for i, fan in enumerate(cp.fans)],
+    }
 
 
 # --- page ----------------------------------------------------------------------------
@@ -204,6 +257,7 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
         "convergence": convergence_table(rows, primary),
         "certificate": certificate_table(res),
         "lower_bound": lower_bound_table(res) | {"utilisation": utilisation},
+        "pattern": pattern_tables(model, res),
     }
 
 

@@ -4,7 +4,8 @@
 (floats unrounded, so `json` writes them with repr and they read back bit for bit;
 this matters because the certificate is re-checked from the file).
 `write_outputs` renders everything in memory first and only then writes
-OUTDIR/result.json, OUTDIR/pattern.<fmt> (the yield-line plan),
+OUTDIR/result.json, OUTDIR/pattern.<fmt> (the clean, optimised pattern: numbered lines,
+lettered regions), OUTDIR/mechanism.<fmt> (the raw mechanism's yield-line plan),
 OUTDIR/deflection.<fmt> (contours of the mechanism's w / w_max) and, when the
 mechanism reads as a clean pattern (hingeline.pattern), OUTDIR/hand-pattern.toml
 (that pattern as a file `hingeline check` reads) and OUTDIR/pattern.dxf (its
@@ -39,9 +40,12 @@ log = logging.getLogger(__name__)
 PLOT_FORMATS = ("png", "pdf", "svg")
 
 #: Plots `write_outputs` writes, as file stem -> plot function name in plots.py
-#: (pattern: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield
-#: ratio of the lower-bound moment field, written only when the result has that field).
-PLOT_KINDS = {"pattern": "plot_pattern", "deflection": "plot_deflection", "utilisation": "plot_utilisation"}
+#: (pattern: the clean pattern's plan, numbered lines and lettered regions, or the raw
+#: plan when the mechanism reads as no clean pattern; mechanism: the raw mechanism's
+#: yield-line plan; deflection: contour plan of w / w_max; utilisation: yield ratio of the
+#: lower-bound moment field, written only when the result has that field).
+PLOT_KINDS = {"pattern": "plot_clean_pattern", "mechanism": "plot_pattern", "deflection": "plot_deflection",
+              "utilisation": "plot_utilisation"}
 
 #: The clean pattern as a hand-pattern file (docs/hand-check.md) and as a DXF drawing (m).
 HAND_PATTERN = "hand-pattern.toml"
@@ -192,6 +196,9 @@ def pattern_to_dict(cp) -> dict | None:
                         "axis": axis, "max_deflection": _float(reg.max_deflection)})
     return {
         "load_factor": _float(cp.load_factor),
+        "raw_load_factor": _float(cp.raw_load_factor),
+        "clean_load_factor": _float(cp.clean_load_factor),
+        "optimised": bool(cp.optimised),
         "regions": regions,
         "at_rest": rest,
         "lines": [{"number": ln.number, "start": _floats(ln.start), "end": _floats(ln.end),
@@ -203,11 +210,27 @@ def pattern_to_dict(cp) -> dict | None:
     }
 
 
+#: The last few clean patterns found, as (weak reference to the Result, pattern): the
+#: optimisation takes seconds, and result.json, the drawings, the record and the summary
+#: all show the same pattern.
+_PATTERNS: list[tuple[Any, Any]] = []
+
+
 def clean_pattern_of(result: Result):
-    """The clean pattern of the result's mechanism (hingeline.pattern), or None."""
+    """The clean (optimised) pattern of the result's mechanism (hingeline.pattern), or None;
+    found once per Result."""
+    import weakref
+
     from ..pattern import clean_pattern
 
-    return clean_pattern(result.model, result.mechanism, result.load_factor)
+    _PATTERNS[:] = [(ref, cp) for ref, cp in _PATTERNS if ref() is not None]
+    for ref, cp in _PATTERNS:
+        if ref() is result:
+            return cp
+    cp = clean_pattern(result.model, result.mechanism, result.load_factor)
+    _PATTERNS.append((weakref.ref(result), cp))
+    del _PATTERNS[:-4]
+    return cp
 
 
 _UNSET = object()
@@ -295,14 +318,18 @@ def certificate_agrees(result: Result, rtol: float = CERTIFICATE_RTOL) -> bool:
     return agrees(result.load_factor, result.certificate, w_max, rtol)
 
 
-def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
-    """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display)."""
+def _render_plot(result: Result, fmt: str, kind: str = "pattern", pattern: Any = _UNSET) -> bytes:
+    """The plot `kind` (a key of PLOT_KINDS) as the bytes of a `fmt` file (Agg, no display);
+    `pattern`: the clean pattern for kind "pattern" (found here unless given)."""
     from . import plots as plot
     from .drawing import CAUTION_FOOTER, UTILISATION_FOOTER, add_caution_footer, file_figure
 
     fig = file_figure(PLOT_SIZE)
     ax = fig.add_subplot()
-    getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
+    if kind == "pattern":
+        plot.plot_clean_pattern(result, ax=ax, pattern=clean_pattern_of(result) if pattern is _UNSET else pattern)
+    else:
+        getattr(plot, PLOT_KINDS[kind])(result, ax=ax)
     add_caution_footer(fig, result, hingeline_version(),
                        UTILISATION_FOOTER if kind == "utilisation" else CAUTION_FOOTER)
     buf = io.BytesIO()
@@ -312,13 +339,15 @@ def _render_plot(result: Result, fmt: str, kind: str = "pattern") -> bytes:
 
 
 def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[str] = ("png",)) -> list[Path]:
-    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt>, OUTDIR/deflection.<fmt> and (with a
+    """Write OUTDIR/result.json, and OUTDIR/pattern.<fmt>, OUTDIR/mechanism.<fmt>,
+    OUTDIR/deflection.<fmt> and (with a
     lower-bound field) OUTDIR/utilisation.<fmt> for each format, and (when the mechanism reads
     as a clean pattern) OUTDIR/hand-pattern.toml and OUTDIR/pattern.dxf; return the paths
     (result.json first, then the plots format by format, then the two pattern files).
 
     formats: any of PLOT_FORMATS ("png", "pdf", "svg"); may be empty (JSON only).
-    pattern: the yield-line plan (plots.plot_pattern); deflection: the contour plan of
+    pattern: the clean pattern's plan (plots.plot_clean_pattern); mechanism: the raw
+    mechanism's yield-line plan (plots.plot_pattern); deflection: the contour plan of
     the mechanism's w / w_max (plots.plot_deflection); utilisation: the yield ratio of the
     lower bound's field (plots.plot_utilisation).
     Everything is rendered in memory before the folder is created and each file is
@@ -342,7 +371,7 @@ def write_outputs(result: Result, outdir: str | os.PathLike, formats: Iterable[s
         for kind in PLOT_KINDS:
             if kind == "utilisation" and not has_field:
                 continue
-            blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind)))
+            blobs.append((f"{kind}.{fmt}", _render_plot(result, fmt, kind, cp)))
     if cp is not None:
         from .dxf import pattern_dxf
 

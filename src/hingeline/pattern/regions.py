@@ -133,12 +133,12 @@ def find_regions(mech: Mechanism, rtol: float = PLANE_RTOL) -> list[Region]:
         vid = np.unique(T[sel])
         A = np.column_stack([np.ones(len(vid)), V[vid]])
         plane = np.linalg.lstsq(A, w[vid], rcond=None)[0]
-        out.append(_moving(poly, plane, sel, V[vid], gmax, rtol, size))
+        out.append(moving_region(poly, plane, sel, V[vid], gmax, rtol, size))
     out.sort(key=lambda reg: (reg.at_rest, -reg.max_deflection))
     return out
 
 
-def _moving(poly, plane, sel, pts, gmax, rtol, size) -> Region:
+def moving_region(poly, plane, sel, pts, gmax, rtol, size) -> Region:
     """A moving region with its axis (see module docstring)."""
     g = plane[1:]
     slope = float(np.hypot(*g))

@@ -41,7 +41,7 @@ CLUSTER_HINT = "install the cluster extra: pip install 'hingeline[cluster]'"
 class SolveOptions:
     """How every variant is solved (hingeline.solve_cases): resolution "coarse" | "normal" |
     "fine" or None (the model's), mesh_size in m or None, lower_bound on or off; drawings:
-    also store pattern.png, deflection.png (and utilisation.png) per variant (not part of the
+    also store pattern.png, mechanism.png, deflection.png (and utilisation.png) per variant (not part of the
     fingerprint: it changes no figure)."""
 
     resolution: str | None = None

@@ -6,7 +6,7 @@ same folder and a changed model or option in a new one.
 
 A variant's folder holds model.toml (the variant as a model file: `hingeline verify
 model.toml result.json` re-checks it, `hingeline solve model.toml` solves it again),
-result.json (and pattern.png, deflection.png, utilisation.png with drawings) and, written
+result.json (and pattern.png, mechanism.png, deflection.png, utilisation.png with drawings) and, written
 last, variant.json (its place in the study, the figures of the CSV row, the time taken). A
 variant counts as done when variant.json reads back with status "solved" and result.json is
 there; anything else is solved again. Each file is written under a temporary name and then
