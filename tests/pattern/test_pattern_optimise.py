@@ -9,7 +9,8 @@ import hingeline
 from hingeline.check import check_pattern, pattern_from_toml
 from hingeline.outputs.result_json import stale_outputs, write_outputs
 from hingeline.pattern import clean_pattern
-from hingeline.pattern import optimise as opt
+from hingeline.pattern import layout
+from hingeline.pattern.tidy import tidy
 from hingeline.verify import verify_result
 
 from unit_slabs import SQUARE, johansen_rectangle, model
@@ -98,13 +99,13 @@ def test_tidy_merges_points_that_meet_and_drops_vanished_regions():
              [np.array([[0, 1], [0, 0], c + [-e, -e], c + [-e, e]])],
              [np.array([c + [-e, -e], c + [e, -e], c + [e, e], c + [-e, e]])]]
     planes = np.array([[0, 0, 2], [2, -2, 0], [2, 0, -2], [0, 2, 0], [1, 0, 0]], float)
-    lay = opt.layout_of(rings, planes, np.zeros(5, bool), size)
+    lay = layout.layout_of(rings, planes, np.zeros(5, bool), size)
     mdl = model(SQUARE, ["simple"] * 4)
-    out = opt.tidy(mdl, lay, lay.points, lay.planes, size)
+    out = tidy(mdl, lay, lay.points, lay.planes, size)
     assert out is not None
     assert len(out.rings) == 4
     assert len(out.points) == 5                         # the corners and the centre
-    regions, rings = opt.layout_regions(out, size)
+    regions, rings = layout.layout_regions(out, size)
     from hingeline.pattern import _checked
 
     _, hc = _checked(mdl, regions, rings)

@@ -32,7 +32,9 @@ from ..result import Mechanism
 from ..upper.certificate import CERTIFICATE_RTOL
 from .handfile import hand_pattern_text, region_names
 from .lines import CleanLine, Fan, clean_lines, find_fans, region_junctions
-from .optimise import TIDY_SETTINGS, TIME_BUDGET, layout_junctions, layout_of, layout_regions, optimise_layout, tidy
+from .layout import layout_junctions, layout_of, layout_regions
+from .optimise import TIME_BUDGET, optimise_layout
+from .tidy import TIDY_SETTINGS, tidy
 from .regions import Region, find_regions, thin_rings
 
 __all__ = ["CleanLine", "CleanPattern", "Fan", "Region", "clean_pattern", "optimise_pattern"]
