@@ -238,7 +238,7 @@ def _pricing_pass(source: CandidateSource, duals, lp_keys, m_ref, size, floor):
     return worst, top.result(), count
 
 
-def _first_lines(source: CandidateSource, initial: np.ndarray) -> LineSet:
+def _first_lines(source: CandidateSource, initial: np.ndarray, carried: np.ndarray | None = None) -> LineSet:
     """The lines of the first LP: the mesh edges and every line up to LOCAL median mesh
     edges long. Measured on the clamped square at 1068 nodes: 9 rounds from the mesh edges
     alone, 7 with lines up to 2 edges, 5 up to 3 (each round's LP larger, the total about
@@ -249,6 +249,9 @@ def _first_lines(source: CandidateSource, initial: np.ndarray) -> LineSet:
     near = cKDTree(nodes).query_pairs(LOCAL * float(np.median(edge)), output_type="ndarray")
     keys = np.union1d(initial[:, 0].astype(np.int64) * n + initial[:, 1],
                       near.min(1).astype(np.int64) * n + near.max(1))
+    if carried is not None and len(carried):
+        # Lines a previous mesh found active (refinement), mapped onto these nodes.
+        keys = np.union1d(keys, np.unique(carried[:, 0].astype(np.int64) * n + carried[:, 1]))
     keys = np.setdiff1d(keys, source.blocked, assume_unique=True)
     lines = source.lines(np.stack(np.divmod(keys, n), axis=1))
     mesh = np.isin(lines.keys(n), initial[:, 0].astype(np.int64) * n + initial[:, 1])
@@ -258,15 +261,17 @@ def _first_lines(source: CandidateSource, initial: np.ndarray) -> LineSet:
 
 
 def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-7, max_rounds=200,
-             batch=None) -> LPSolution:
+             batch=None, carried: np.ndarray | None = None) -> LPSolution:
     """Adaptive DLO solve over every admissible line of `source`.
 
     initial: (k, 2) node pairs a < b of the mesh edges (each must be admissible).
     m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round.
+    carried: (c, 2) node pairs a < b also put in the first LP (the active lines of a coarser
+    mesh mapped to these nodes); those not admissible are dropped.
     """
     n = source.n_nodes
     h = _new_model(n, ipm=True, n_extra=source.n_extra)
-    lines = _first_lines(source, np.asarray(initial))
+    lines = _first_lines(source, np.asarray(initial), carried)
     batch = batch or max(BATCH_PER_NODE * n, 200)
     _add(h, lines, n, m_ref)
     n_first = len(lines)
