@@ -116,7 +116,7 @@ def floor_both() -> dict:
 
 
 def square_fine() -> dict:
-    return dict(case="clamped square, fine", reference=FOX, **_solve(SQUARE, resolution="fine"))
+    return dict(case="clamped square, fine", reference=FOX, **_solve(SQUARE, nodes=1100))
 
 
 def floor_blocks() -> dict:

@@ -3,7 +3,7 @@
 Usage::
 
     python benchmarks/lower_no_top_bars.py                     # the seven slabs at "normal"
-    python benchmarks/lower_no_top_bars.py --resolution fine
+    python benchmarks/lower_no_top_bars.py --nodes 1100
     python benchmarks/lower_no_top_bars.py --random 30         # and 30 random slabs, twice each
 
 Slabs (m, kPa, kNm/m): a 6 m square simply supported on all edges, 10 kPa, sagging 20, with

@@ -96,7 +96,7 @@ def main() -> None:
     for res in args.resolutions.split(","):
         for name, (text, closed, kind) in cases().items():
             t0 = time.perf_counter()
-            r = hingeline.solve(hingeline.model_from_toml(text.replace('resolution = "coarse"', f'resolution = "{res}"')))
+            r = hingeline.solve(hingeline.model_from_toml(text.replace('nodes = 150', f'resolution = "{res}"')))
             seconds = time.perf_counter() - t0
             lf = r.load_factor
             lb = r.lower_bound.load_factor if r.lower_bound is not None else None

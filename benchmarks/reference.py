@@ -3,7 +3,7 @@
 Usage::
 
     python benchmarks/reference.py                      # all cases at "normal" + clamped_square at "fine"
-    python benchmarks/reference.py --resolution coarse  # all cases at one resolution
+    python benchmarks/reference.py --nodes 150  # all cases at one resolution
     python benchmarks/reference.py --cases ss_square,clamped_square --repeat 3
 
 Each solve runs in a fresh process (multiprocessing, "spawn" context), so the peak

@@ -13,7 +13,7 @@ Only prints; nothing is asserted about time. The load average before and after i
 too: on a machine busy with other work the speed-up says little.
 
     python benchmarks/study.py                      # coarse resolution, checks 4 variants
-    python benchmarks/study.py --resolution normal --check 8
+    python benchmarks/study.py --nodes 450 --check 8
 """
 from __future__ import annotations
 

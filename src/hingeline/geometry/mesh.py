@@ -212,20 +212,25 @@ def mesh_domain(domain: Domain, model: Model, size: float, field: SizeField | No
     # Triangle's quality meshes come out finer than the area bound; the factor was set so that
     # the unit square gets about TARGET_NODES nodes (measured: about 150 / 451 / 1068).
     max_area = 0.5 * np.sqrt(3.0) / 4.0 * size**2 * 3.4
-    refine = None
-    if field is not None and len(field.points):
-        from scipy.spatial import cKDTree
-
-        tree, k = cKDTree(field.points), min(16, len(field.points))
-
-        def refine(vertices, area):
-            c = np.mean(np.asarray(vertices, float), axis=0)
-            d, i = tree.query(c, k=k)
-            h = min(field.base, float(np.min(field.sizes[i] + GRADE * d)))
-            return area > 0.5 * np.sqrt(3.0) / 4.0 * h**2 * 3.4
+    refine = None if field is None or not len(field.points) else _area_rule(field)
     mesh = triangle.build(info, max_volume=max_area, min_angle=28.0, generate_faces=False, refinement_func=refine)
     nodes = np.array(mesh.points, float)
     tris = np.array(mesh.elements, np.int64)
     e = np.concatenate([tris[:, [0, 1]], tris[:, [1, 2]], tris[:, [2, 0]]])
     edges = np.unique(np.sort(e, axis=1), axis=0)
     return Mesh(nodes, tris, edges)
+
+
+def _area_rule(field: SizeField):
+    """Triangle's refinement test for `field`: a triangle is split while its area exceeds that
+    of the uniform rule (mesh_domain) for the size at its centroid."""
+    from scipy.spatial import cKDTree
+
+    tree, k = cKDTree(field.points), min(16, len(field.points))
+
+    def too_big(vertices, area):
+        c = np.mean(np.asarray(vertices, float), axis=0)
+        d, i = tree.query(c, k=k)
+        h = min(field.base, float(np.min(field.sizes[i] + GRADE * d)))
+        return area > 0.5 * np.sqrt(3.0) / 4.0 * h**2 * 3.4
+    return too_big
