@@ -57,7 +57,7 @@ hogging = {hogging if hogging is not None else m}
 type = "area"
 value = {q!r}
 [analysis]
-resolution = "{resolution}"
+nodes = {nodes}
 """
 
 
@@ -120,7 +120,7 @@ def rotated_isotropic() -> dict:
 
 def jittered(path: str, seed: int) -> dict:
     """A model file with every distinct point of the slab, loads and zones moved by up to
-    1e-6 m (uniform random, seeded), solved at "coarse"; note: the unjittered load factor."""
+    1e-6 m (uniform random, seeded), solved at 150 nodes; note: the unjittered load factor."""
     import hingeline
 
     data = tomllib.loads((ROOT / path).read_text(encoding="utf-8"))

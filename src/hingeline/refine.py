@@ -79,7 +79,8 @@ def feature_points(model: Model, domain: Domain) -> np.ndarray:
     out = [np.zeros((0, 2))]
     outline = np.asarray(model.slab.outline, float)
     prev, nxt = np.roll(outline, 1, axis=0), np.roll(outline, -1, axis=0)
-    cross = np.cross(outline - prev, nxt - outline)
+    a, b = outline - prev, nxt - outline
+    cross = a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]
     out.append(outline[cross < 0])            # counter-clockwise outline: a right turn is re-entrant
     for opening in model.slab.openings:
         out.append(np.asarray(opening, float))

@@ -200,7 +200,7 @@ def test_report_data_matches_the_result():
 
 def test_cli_report_writes_page_and_refinement_table(tmp_path, capsys):
     model_path = tmp_path / "l.toml"
-    model_path.write_text(L_SLAB, encoding="utf-8")
+    model_path.write_text(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), encoding="utf-8")   # refined
     out = tmp_path / "out"
     # A tight gap, so that the mesh is refined at least once (the first step alone does not reach it).
     assert main(["report", str(model_path), "-o", str(out), "--gap", "0.01", "--time-limit", "15"]) == 0
@@ -279,7 +279,7 @@ def test_the_record_reports_the_best_bound_of_each_kind():
     so the record's headline is the lowest upper bound and its lower bound the highest one."""
     from hingeline import solve
 
-    model = model_from_toml(L_SLAB, source="L-slab")
+    model = model_from_toml(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), source="L-slab")
     res = solve(model, gap=0.005, time_limit=8)
     steps = res.refinement
     assert res.load_factor == min(st.load_factor for st in steps)

@@ -78,6 +78,11 @@ def _float(x: Any) -> float | None:
     return v if math.isfinite(v) else None
 
 
+def _maybe(x: Any) -> float | None:
+    """_float(x), or None for None."""
+    return None if x is None else _float(x)
+
+
 def _floats(a: Any) -> list:
     """Nested plain lists of floats from an array-like."""
     arr = np.asarray(a, dtype=float)
@@ -258,9 +263,9 @@ def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
         "refinement": {
             "stop": result.stop,
             "stop_reason": STOP_REASONS.get(result.stop, result.stop),
-            "target_gap": _float(result.target_gap),
+            "target_gap": _maybe(result.target_gap),
             "steps": [{"nodes": int(st.nodes), "load_factor": _float(st.load_factor),
-                       "lower_bound": _float(st.lower_bound), "gap": _float(st.gap), "seconds": _float(st.seconds)}
+                       "lower_bound": _maybe(st.lower_bound), "gap": _maybe(st.gap), "seconds": _float(st.seconds)}
                       for st in result.refinement],
         },
         "pattern": pattern_to_dict(pattern),
