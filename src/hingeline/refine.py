@@ -25,10 +25,11 @@ from .lower import element_capacities, yield_ratio
 from .model import Model
 from .result import LowerBound, YieldLines
 
-#: Element size at a marked place, as a fraction of the size it had. Measured on the clamped
-#: square: 0.5 roughly quadruples the nodes per step and overshoots the time of the step
-#: that would have been enough; 0.6 gives about 2 to 2.5 times the nodes per step.
-REFINE_FACTOR = 0.6
+#: Element size at a marked place, as a fraction of the size it had. Measured (2 shared cores):
+#: clamped square to a 1.2 % gap, 0.6 gave 149 / 273 / 469 / 867 nodes and 43.093 in 31 s,
+#: 0.5 gave 149 / 357 / 858 nodes and 43.072 in 26 s; the demo to 3 %, 3.3 s either way;
+#: the podium deck to 3 %, 36 s with 0.6 (three steps) and 17 s with 0.5 (two).
+REFINE_FACTOR = 0.5
 #: A lower-bound triangle is "at its limit" when its largest yield ratio at the six node
 #: points of its field is at least this.
 AT_LIMIT = 0.98
