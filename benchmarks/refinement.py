@@ -4,8 +4,8 @@
     python benchmarks/refinement.py --cases clamped_square --uniform-budget 120
 
 For each case the adaptive solve (hingeline.solve with the case's target gap and time limit)
-is run first; then uniform refinement (one uniform mesh after another, 150, 300, 600, ...
-nodes on the slab, each solved with both bounds) until a mesh reaches the gap the adaptive
+is run first; then uniform refinement (one uniform mesh after another, 150, 225, 338, ...
+nodes on the slab, each 1.5 times the last, solved with both bounds) until a mesh reaches the gap the adaptive
 solve reached, or the uniform budget of time is spent. Printed: the adaptive bracket, its
 stop reason, steps and time; the uniform meshes' time to the same gap, summed over the
 sequence (what uniform refinement costs) and for its last mesh alone (what it costs when
@@ -95,7 +95,7 @@ def run_case(name: str, budget: float) -> dict:
               f"{dt:.1f} s (total {total:.1f} s)", flush=True)
         if gap_of(r) <= want * (1 + 1e-9) or total > budget:
             break
-        nodes *= 2
+        nodes = int(round(nodes * 1.5))
     out.update(uniform_total=total, uniform_last=last, uniform_reached=gap_of(last[1]) <= want * (1 + 1e-9))
     return out
 
@@ -135,7 +135,7 @@ def main() -> None:
             f"{r_last.stats.slab_nodes}{reached}", f"{100 * gap_of(r_last):.3f}", f"{o['uniform_total']:.1f}",
             f"{t_last:.1f}", f"{o['uniform_total'] / o['t_ad']:.1f}", f"{t_last / o['t_ad']:.1f}"]))
     print("\nupper / lower: the lowest upper bound and highest proven lower bound of the adaptive solve; ref err: "
-          "both against the reference (upper / lower). ratio sum: time of the uniform sequence 150, 300, 600, ... "
+          "both against the reference (upper / lower). ratio sum: time of the uniform sequence 150, 225, 338, ... "
           "nodes up to the first mesh reaching the adaptive gap, over the adaptive time; ratio last: that mesh alone.")
 
 

@@ -357,7 +357,7 @@ def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None 
     result's own lower bound is that of the governing case.
 
     With adaptive refinement (see `solve`), every case is first solved on the first, coarse
-    mesh; the case governing there is refined, and the other cases start from the refined
+    mesh (upper bound only); the case governing there is refined, and the other cases start from the refined
     mesh sizes of the governing case (the size field, valid for any loads on the slab) and
     refine further only if their own bracket needs it, within what is left of the time limit.
     """
@@ -375,8 +375,9 @@ def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None 
     else:
         first = []
         for name, m in cases:
+            # Only the upper bound picks the governing case: no lower bound on this pass.
             log.info("load case %s, first mesh", name)
-            first.append(solve(m, mesh_size=size, lower_bound=lower_bound).load_factor)
+            first.append(solve(m, mesh_size=size, lower_bound=False).load_factor)
         lead = int(np.argmin(first))
         log.info("load case %s governs on the first mesh: refining it", cases[lead][0])
         governing, field = _solve(cases[lead][1], None, None, lower_bound, gap, limit - (time.perf_counter() - t0))

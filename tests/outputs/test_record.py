@@ -280,7 +280,7 @@ def test_the_record_reports_the_best_bound_of_each_kind():
     from hingeline import solve
 
     model = model_from_toml(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), source="L-slab")
-    res = solve(model, gap=0.005, time_limit=8)
+    res = solve(model, gap=0.005, time_limit=5)
     steps = res.refinement
     assert res.load_factor == min(st.load_factor for st in steps)
     assert res.lower_bound.load_factor == max(st.lower_bound for st in steps if st.lower_bound is not None)
