@@ -1,5 +1,6 @@
 """The pipeline in one call: model -> domain and mesh -> candidate lines -> LP ->
-mechanism and certificate -> Result.
+mechanism and certificate -> Result; with adaptive refinement (refine.py) the meshes are
+solved one after another, keeping the lowest upper and the highest lower bound.
 
 Units: m, kN, kNm/m, kPa. See the stage modules for the method.
 """
