@@ -219,11 +219,11 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
         if time.perf_counter() - t0 >= limit:
             stop = "time"
             break
-        if lower_bound:
-            if now is not None and last_gap is not None and now > NARROWING * last_gap:
+        if lower_bound and now is not None:
+            if last_gap is not None and now > NARROWING * last_gap:
                 stop = "stalled"
                 break
-            last_gap = now if now is not None else last_gap
+            last_gap = now
         elif len(steps) > 1 and steps[-2].load_factor - up_best < 0.25 * target * up_best:
             # Without a lower bound: stop when the upper bound no longer falls by a quarter of the target.
             stop = "stalled"
