@@ -87,7 +87,7 @@ value = 1.0
 FOX = 42.851
 
 
-def _solve(toml: str, mesh_size=None, resolution=None, lower_bound=False, block_lines=None) -> dict:
+def _solve(toml: str, mesh_size=None, nodes=None, lower_bound=False, block_lines=None) -> dict:
     """One solve in this process; the row's fields except peak_mb, note and case."""
     import hingeline
     from hingeline.upper import pricing
@@ -96,7 +96,7 @@ def _solve(toml: str, mesh_size=None, resolution=None, lower_bound=False, block_
         pricing.BLOCK_LINES = block_lines
     model = hingeline.model_from_toml(toml)
     t0 = time.perf_counter()
-    r = hingeline.solve(model, resolution=resolution, mesh_size=mesh_size, lower_bound=lower_bound)
+    r = hingeline.solve(model, nodes=nodes, mesh_size=mesh_size, lower_bound=lower_bound)
     seconds = time.perf_counter() - t0
     lb = r.lower_bound.load_factor if r.lower_bound is not None else None
     return dict(nodes=r.stats.nodes, load_factor=r.load_factor, lower_bound=lb,
@@ -116,7 +116,7 @@ def floor_both() -> dict:
 
 
 def square_fine() -> dict:
-    return dict(case="clamped square, fine", reference=FOX, **_solve(SQUARE, resolution="fine"))
+    return dict(case="clamped square, fine", reference=FOX, **_solve(SQUARE, nodes=1100))
 
 
 def floor_blocks() -> dict:

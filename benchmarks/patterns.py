@@ -3,7 +3,7 @@
 Usage::
 
     python benchmarks/patterns.py                    # every case, reference slabs at "normal"
-    python benchmarks/patterns.py --resolution coarse
+    python benchmarks/patterns.py --nodes 150
     python benchmarks/patterns.py --cases rect_1x2,sq_3ss_1free
 
 For each case the model is solved (upper bound only) and its mechanism read as a clean
@@ -48,7 +48,7 @@ def johansen_rectangle(a: float, b: float, m: float = 1.0) -> float:
     return 24.0 * m / (a * a * (math.sqrt(3.0 + r * r) - r) ** 2)
 
 
-def _model(outline, edges, resolution):
+def _model(outline, edges, nodes):
     text = f"""
 [slab]
 outline = {outline}
@@ -60,7 +60,7 @@ hogging = 1.0
 type = "area"
 value = 1.0
 [analysis]
-resolution = "{resolution}"
+nodes = {nodes}
 """.replace("'", '"')
     return hingeline.model_from_toml(text)
 
@@ -101,20 +101,20 @@ def _check_target(name, cp, labels, raw):
     return "opt <= raw", opt <= raw * (1 + 1e-9)
 
 
-def cases(resolution: str):
+def cases(nodes: int):
     out = [("demo", lambda: hingeline.read_model(os.path.join(ROOT, "src", "hingeline", "data", "demo.toml")), None)]
     for path in sorted(glob.glob(os.path.join(ROOT, "examples", "*.toml"))
                        + glob.glob(os.path.join(ROOT, "examples", "patterns", "*_model.toml"))):
         out.append((os.path.relpath(path, os.path.join(ROOT, "examples")),
                     (lambda p=path: hingeline.read_model(p)), None))
     for name, (outline, edges, ref, _) in REFERENCE.items():
-        out.append((name, (lambda o=outline, e=edges: _model(o, e, resolution)), ref))
+        out.append((name, (lambda o=outline, e=edges: _model(o, e, nodes)), ref))
     return out
 
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    ap.add_argument("--resolution", default="normal", help="resolution of the reference slabs")
+    ap.add_argument("--nodes", type=int, default=450, help="nodes on each reference slab (one uniform mesh)")
     ap.add_argument("--cases", default=None, help="comma-separated case names")
     args = ap.parse_args(argv)
     want = None if args.cases is None else set(args.cases.split(","))
@@ -123,7 +123,7 @@ def main(argv=None) -> int:
     print(head)
     print("-" * len(head))
     missed = 0
-    for name, make, ref in cases(args.resolution):
+    for name, make, ref in cases(args.nodes):
         if want is not None and name not in want:
             continue
         model = make()
@@ -146,7 +146,7 @@ def main(argv=None) -> int:
               f"{labels:6d} {100 * shown:7.1f} {raw:9.4f} {cp.clean_load_factor if cp else float('nan'):9.4f} "
               f"{cp.load_factor if cp else float('nan'):9.4f} {'' if ref is None else f'{ref:9.4f}':>9s} {err:>9s} "
               f"{secs:5.1f}  {target}: {'met' if met else 'MISSED'}")
-    print(f"\nreference slabs at resolution {args.resolution!r}; sources:")
+    print(f"\nreference slabs at about {args.nodes} nodes; sources:")
     for name, (_, _, _, src) in REFERENCE.items():
         print(f"  {name}: {src}")
     print(f"targets missed: {missed}")

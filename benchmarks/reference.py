@@ -2,8 +2,8 @@
 
 Usage::
 
-    python benchmarks/reference.py                      # all cases at "normal" + clamped_square at "fine"
-    python benchmarks/reference.py --resolution coarse  # all cases at one resolution
+    python benchmarks/reference.py                      # all cases at 450 nodes + clamped_square at 1100
+    python benchmarks/reference.py --nodes 150  # all cases on one uniform mesh of about 150 nodes
     python benchmarks/reference.py --cases ss_square,clamped_square --repeat 3
 
 Each solve runs in a fresh process (multiprocessing, "spawn" context), so the peak
@@ -21,7 +21,7 @@ Flags in the last column:
   LB>REF!      lower bound above the reference: every reference here is exact or an upper
                bound on the exact value, so this is a bug (the lower bound would be unsafe).
   LB>UB!       lower bound above the load factor: a bug in one of the two.
-  gap>target   gap larger than the lower bound's target (square cases: 3 % at normal, 1.5 % at fine).
+  gap>target   gap larger than the lower bound's target (square cases: 3 % at 450 nodes, 1.5 % at 1100).
   UNSAFE?      load factor more than 0.1 % BELOW the reference (hingeline gives upper
                bounds, so a value below an exact reference points at a bug; for a
                reference that is itself only an upper bound it may be legitimate).
@@ -68,12 +68,12 @@ class Case:
     reference: float
     source: str                      # short label for the table
     source_long: str                 # full citation / derivation, printed under the table
-    target: dict[str, float | None] = field(default_factory=dict)  # resolution -> |error| limit, %
+    target: dict[int, float | None] = field(default_factory=dict)  # nodes -> |error| limit, %
     default_target: float | None = None
-    gap_target: dict[str, float] = field(default_factory=dict)     # resolution -> gap limit, % (lower bound)
+    gap_target: dict[int, float] = field(default_factory=dict)     # nodes -> gap limit, % (lower bound)
 
-    def target_for(self, resolution: str) -> float | None:
-        return self.target.get(resolution, self.default_target)
+    def target_for(self, nodes: int) -> float | None:
+        return self.target.get(nodes, self.default_target)
 
 
 def _outline_toml(points) -> str:
@@ -120,7 +120,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
                      "moment field; Nielsen & Hoang, Limit Analysis and Concrete Plasticity "
                      "(recalled, not looked up)."),
         default_target=0.1,
-        gap_target={"normal": 3.0, "fine": 1.5},
+        gap_target={450: 3.0, 1100: 1.5},
     ),
     Case(
         "clamped_square",
@@ -129,8 +129,8 @@ CASES: dict[str, Case] = {c.name: c for c in [
         source="Fox 1974 (exact, sq. criterion)",
         source_long=("42.851 m/L^2: Fox, Phil. Trans. R. Soc. A 277 (1974); exact for the "
                      "square yield criterion."),
-        target={"normal": 1.5, "fine": 0.7},   # none stated for "coarse"
-        gap_target={"normal": 3.0, "fine": 1.5},
+        target={450: 1.5, 1100: 0.7},   # none stated for 150 nodes
+        gap_target={450: 3.0, 1100: 1.5},
     ),
     Case(
         "ss_rectangle_1x2",
@@ -178,7 +178,7 @@ CASES: dict[str, Case] = {c.name: c for c in [
 # --------------------------------------------------------------------------- worker
 
 
-def _run_case(name: str, resolution: str) -> dict:
+def _run_case(name: str, nodes: int) -> dict:
     """Solve one case; runs in a fresh spawned process."""
     import os
     import resource
@@ -193,7 +193,7 @@ def _run_case(name: str, resolution: str) -> dict:
         case = CASES[name]
         model = hingeline.model_from_toml(case.toml, source=name)
         t0 = time.perf_counter()
-        r = hingeline.solve(model, resolution=resolution)
+        r = hingeline.solve(model, nodes=nodes)
         wall = time.perf_counter() - t0
         s = r.stats
         out = dict(
@@ -214,10 +214,10 @@ def _run_case(name: str, resolution: str) -> dict:
     return out
 
 
-def run_in_fresh_process(name: str, resolution: str) -> dict:
+def run_in_fresh_process(name: str, nodes: int) -> dict:
     ctx = mp.get_context("spawn")
     with ctx.Pool(processes=1, maxtasksperchild=1) as pool:
-        return pool.apply(_run_case, (name, resolution))
+        return pool.apply(_run_case, (name, nodes))
 
 
 # --------------------------------------------------------------------------- table
@@ -235,15 +235,15 @@ def _fmt_row(values) -> str:
     return " | ".join(f"{v:{a}{w}}" if w else str(v) for v, (_, w, a) in zip(values, COLUMNS)).rstrip()
 
 
-def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[str]]:
+def row_for(case: Case, nodes: int, runs: list[dict]) -> tuple[str, list[str]]:
     notes: list[str] = []
     first = runs[0]
-    target = case.target_for(resolution)
+    target = case.target_for(nodes)
     tgt = "n/a" if target is None else f"{target:g}"
     if not first["ok"]:
-        vals = [case.name, resolution, "FAILED", f"{case.reference:.4f}", case.source, "", tgt,
+        vals = [case.name, nodes, "FAILED", f"{case.reference:.4f}", case.source, "", tgt,
                 "", "", "", "", "", f"{max(r['peak_mb'] for r in runs):.0f}", "", "", "", "", "", "ERROR"]
-        notes.append(f"{case.name} @ {resolution}: {first['error']}")
+        notes.append(f"{case.name} @ {nodes}: {first['error']}")
         return _fmt_row(vals), notes
     lf = first["load_factor"]
     err = (lf - case.reference) / case.reference * 100.0
@@ -264,16 +264,16 @@ def row_for(case: Case, resolution: str, runs: list[dict]) -> tuple[str, list[st
             flags.append("LB>REF!")
         if lower > lf * (1 + 1e-6):
             flags.append("LB>UB!")
-        if resolution in case.gap_target and gap > case.gap_target[resolution]:
+        if nodes in case.gap_target and gap > case.gap_target[nodes]:
             flags.append("gap>target")
     times = [r["wall"] for r in runs if r["ok"]]
     lfs = {round(r["load_factor"], 10) for r in runs if r["ok"]}
     if len(lfs) > 1:
-        notes.append(f"{case.name} @ {resolution}: load factor differed between repeats: {sorted(lfs)}")
+        notes.append(f"{case.name} @ {nodes}: load factor differed between repeats: {sorted(lfs)}")
     for w in first["warnings"]:
-        notes.append(f"{case.name} @ {resolution}: warning: {w}")
+        notes.append(f"{case.name} @ {nodes}: warning: {w}")
     vals = [
-        case.name, resolution, f"{lf:.5f}", f"{case.reference:.4f}", case.source, f"{err:+.3f}", tgt,
+        case.name, nodes, f"{lf:.5f}", f"{case.reference:.4f}", case.source, f"{err:+.3f}", tgt,
         f"{first['slab_nodes']}/{first['nodes']}", str(first["candidate_lines"]), str(first["lp_lines"]),
         str(first["rounds"]), f"{statistics.median(times):.2f}",
         f"{max(r['peak_mb'] for r in runs):.0f}", f"{cert:.1e}", *lb_cols, " ".join(flags),
@@ -299,8 +299,8 @@ def _source_state() -> str:
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
-    ap.add_argument("--resolution", choices=["coarse", "normal", "fine"], default=None,
-                    help="run every case at this resolution (default: normal, plus clamped_square at fine)")
+    ap.add_argument("--nodes", type=int, default=None,
+                    help="run every case on one uniform mesh of about N nodes (default: 450, plus clamped_square at 1100)")
     ap.add_argument("--cases", default=None, help="comma-separated case names (default: all)")
     ap.add_argument("--repeat", type=int, default=1, help="time each case N times; the median is printed")
     args = ap.parse_args(argv)
@@ -312,12 +312,12 @@ def main(argv=None) -> int:
     if args.repeat < 1:
         ap.error("--repeat must be >= 1")
 
-    if args.resolution is not None:
-        jobs = [(n, args.resolution) for n in names]
+    if args.nodes is not None:
+        jobs = [(n, args.nodes) for n in names]
     else:
-        jobs = [(n, "normal") for n in names]
+        jobs = [(n, 450) for n in names]
         if "clamped_square" in names:
-            jobs.append(("clamped_square", "fine"))
+            jobs.append(("clamped_square", 1100))
 
     header = _fmt_row([c[0] for c in COLUMNS])
     print(f"hingeline reference benchmarks  ({time.strftime('%Y-%m-%d %H:%M')}, "

@@ -12,8 +12,8 @@ model file solved alone in this process must give the load factor in study.csv t
 Only prints; nothing is asserted about time. The load average before and after is printed
 too: on a machine busy with other work the speed-up says little.
 
-    python benchmarks/study.py                      # coarse resolution, checks 4 variants
-    python benchmarks/study.py --resolution normal --check 8
+    python benchmarks/study.py                      # 150 nodes per variant, checks 4 variants
+    python benchmarks/study.py --nodes 450 --check 8
 """
 from __future__ import annotations
 
@@ -71,7 +71,7 @@ def _machine() -> str:
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    ap.add_argument("--resolution", default="coarse", choices=("coarse", "normal", "fine"))
+    ap.add_argument("--nodes", type=int, default=150)
     ap.add_argument("--check", type=int, default=4, help="variants to re-solve alone (default 4)")
     args = ap.parse_args()
 
@@ -82,7 +82,7 @@ def main() -> None:
         (folder / "riser.toml").write_text(STUDY)
         study = read_study(folder / "riser.toml")
         plan = build_variants(study)
-        options = SolveOptions(resolution=args.resolution)
+        options = SolveOptions(nodes=args.nodes)
         times, rows = {}, {}
         for jobs in (1, 2):
             out = folder / f"out-{jobs}"
@@ -97,14 +97,14 @@ def main() -> None:
         worst = 0.0
         for r in picks:
             alone = solve(read_model(folder / "out-2" / "variants" / r["variant"] / "model.toml"),
-                          resolution=args.resolution)
+                          nodes=args.nodes)
             worst = max(worst, abs(alone.load_factor - float(r["load_factor"])) / alone.load_factor)
         same = max(abs(a.load_factor - b.load_factor) / a.load_factor
                    for a, b in zip(rows[1], rows[2]) if a.load_factor is not None)
         seconds = sorted(r.seconds for r in rows[1] if r.seconds is not None)
 
     print(f"machine: {_machine()}")
-    print(f"date: {datetime.date.today().isoformat()}, commit: {_commit()}, resolution: {args.resolution}")
+    print(f"date: {datetime.date.today().isoformat()}, commit: {_commit()}, nodes: {args.nodes}")
     # The speed-up means little on a machine busy with other work: say how busy it was.
     print(f"load average (1 min) before: {load_before:.1f}, after: {os.getloadavg()[0]:.1f}")
     print()

@@ -26,7 +26,7 @@ hogging = {hogging}
 type = "area"
 value = 1.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

@@ -35,7 +35,7 @@ type = "point"
 value = 10.0
 at = [1.5, 1.2]
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

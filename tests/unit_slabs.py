@@ -12,7 +12,7 @@ import hingeline
 SQUARE = [[0, 0], [1, 0], [1, 1], [0, 1]]
 
 
-def model(outline, edges, sagging=1.0, hogging=1.0, resolution="coarse", extra="", bar_angle=0.0):
+def model(outline, edges, sagging=1.0, hogging=1.0, nodes=150, extra="", bar_angle=0.0):
     text = f"""
 [slab]
 outline = {outline}
@@ -25,7 +25,7 @@ bar_angle = {bar_angle}
 type = "area"
 value = 1.0
 [analysis]
-resolution = "{resolution}"
+nodes = {nodes}
 {extra}
 """.replace("'", '"')
     return hingeline.model_from_toml(text)

@@ -126,6 +126,29 @@ class LowerBound:
     reason: str = ""
 
 
+@dataclass(frozen=True)
+class RefinementStep:
+    """One mesh of a solve: nodes on the slab; load_factor (upper bound) and lower_bound
+    (None when none was proven) found on it; gap (upper - lower) / upper of that mesh alone
+    (None without a lower bound); seconds: wall time of the step, s."""
+
+    nodes: int
+    load_factor: float
+    lower_bound: float | None
+    gap: float | None
+    seconds: float
+
+
+#: Why the refinement of a solve stopped (Result.stop) and how the summary words it.
+STOP_REASONS = {
+    "gap": "the bounds are within the target gap",
+    "time": "the time limit was reached",
+    "stalled": "a further step no longer narrowed the bracket",
+    "nodes": "the next mesh would exceed the node limit",
+    "uniform": "one uniform mesh was asked for (nodes or mesh_size), no refinement",
+}
+
+
 @dataclass(frozen=True, eq=False)
 class Result:
     """Outcome of `hingeline.solve`."""
@@ -142,6 +165,9 @@ class Result:
     cases: tuple[tuple[str, float], ...] = ()     # (case name, load factor) of every case solved
     lower_bound: LowerBound | None = None         # None when the lower bound was not asked for
     case_lower_bounds: tuple[float | None, ...] = ()  # lower bound of each case in `cases` (None: none found)
+    refinement: tuple[RefinementStep, ...] = ()   # every mesh solved, in order (one for a uniform mesh)
+    stop: str = "uniform"                         # why refinement stopped: a key of STOP_REASONS
+    target_gap: float | None = None               # the gap asked for (None for a uniform mesh)
 
     @property
     def gap(self) -> float | None:

@@ -1,5 +1,6 @@
 """The pipeline in one call: model -> domain and mesh -> candidate lines -> LP ->
-mechanism and certificate -> Result.
+mechanism and certificate -> Result; with adaptive refinement (refine.py) the meshes are
+solved one after another, keeping the lowest upper and the highest lower bound.
 
 Units: m, kN, kNm/m, kPa. See the stage modules for the method.
 """
@@ -15,14 +16,15 @@ import shapely
 from . import rescale, review
 from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
-from .geometry.mesh import MAX_NODES, check_node_budget, mesh_domain, mesh_size_for
+from .geometry.mesh import MAX_NODES, START_NODES, SizeField, check_node_budget, mesh_domain, mesh_size_for
 from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
-from .model import RESOLUTIONS, Model, model_for_case
+from .model import Model, model_for_case
 from .model.scaling import Scales, dimensionless, scales_of, size_warning
-from .result import CertificateCheck, LowerBound, Result, SolveStats, Work
+from .refine import NARROWING, REFINE_FACTOR, carried_lines, refinement_points
+from .result import STOP_REASONS, CertificateCheck, LowerBound, RefinementStep, Result, SolveStats, Work
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 from .upper.lp import solve_lp
-from .upper.mechanism import build_mechanism, yield_lines
+from .upper.mechanism import active_lines, build_mechanism, yield_lines
 from .upper.pricing import candidate_source, total_force
 
 log = logging.getLogger(__name__)
@@ -30,35 +32,62 @@ log = logging.getLogger(__name__)
 VIOLATION_TOL = 1e-7     # stopping tolerance of the LP loop (lp.solve_lp): largest reduced-cost violation left
 
 
-def solve(model: Model, resolution: str | None = None, mesh_size: float | None = None,
-          lower_bound: bool = True) -> Result:
+def solve(model: Model, nodes: int | None = None, mesh_size: float | None = None,
+          lower_bound: bool = True, gap: float | None = None, time_limit: float | None = None) -> Result:
     """Find the collapse mechanism of `model` with the lowest load factor and, unless
-    lower_bound is False, a lower bound from a statically admissible moment field on the
-    same mesh (see lower/program.py).
+    lower_bound is False, a lower bound from a statically admissible moment field.
 
-    resolution: "coarse" | "normal" | "fine" (default: the model's); mesh_size: element
-    size in m, overriding the resolution. Raises UnstableSlabError when the slab can
-    collapse without resisting, SolverError when the LP fails.
+    The mesh: nodes (about that many nodes on the slab) or mesh_size (element size, m) give
+    one uniform mesh, no refinement; the arguments override the model's analysis.nodes and
+    analysis.mesh_size. With none of the four, the mesh is refined adaptively (refine.py)
+    from a coarse one until (upper - lower) / upper <= gap (default analysis.target_gap), or
+    time_limit (s, default analysis.time_limit) is reached, or a step no longer narrows the
+    bracket. The load factor is the lowest upper bound found, the lower bound the highest
+    proven one, each from its own mesh and each re-checked; Result.refinement lists the steps.
+    Raises UnstableSlabError when the slab can collapse without resisting, SolverError when
+    the LP fails.
 
     Both bounds are solved in dimensionless units (model/scaling.py), so that no tolerance
     depends on the slab's size or on the magnitude of its capacities and loads; the result
     is in the model's units.
     """
+    return _solve(model, nodes, mesh_size, lower_bound, gap, time_limit)[0]
+
+
+def mesh_plan(model: Model, nodes: int | None, mesh_size: float | None) -> tuple[bool, float, str]:
+    """(uniform, element size in m, how it was set in the user's words): the arguments first,
+    then the model's analysis.mesh_size and analysis.nodes; else adaptive refinement from
+    START_NODES."""
+    if mesh_size:
+        return True, float(mesh_size), "mesh_size"
+    if nodes:
+        return True, mesh_size_for(model, int(nodes)), f"nodes = {int(nodes)}"
+    if model.analysis.mesh_size:
+        return True, float(model.analysis.mesh_size), "analysis.mesh_size"
+    if model.analysis.nodes:
+        return True, mesh_size_for(model, model.analysis.nodes), f"analysis.nodes = {model.analysis.nodes}"
+    return False, mesh_size_for(model, START_NODES), "the first mesh of refinement"
+
+
+def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound: bool, gap: float | None,
+           time_limit: float | None, start: SizeField | None = None) -> tuple[Result, SizeField | None]:
+    """solve(), also returning the size field of the last mesh (model units; None for a
+    uniform mesh), and starting from the size field `start` (model units) when given."""
     t0 = time.perf_counter()
-    res = resolution or model.analysis.resolution
-    if res not in RESOLUTIONS:
-        raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {res!r}")
-    size = mesh_size or (model.analysis.mesh_size if resolution is None else None) or mesh_size_for(model, res)
-    option = size_option(model, resolution, mesh_size)
+    uniform, size, option = mesh_plan(model, nodes, mesh_size)
+    target = model.analysis.target_gap if gap is None else float(gap)
+    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
     # Refused before meshing: the mesher itself can exhaust memory on a tiny element size.
     check_node_budget(model, size, option)
     s = scales_of(model)
     hint = size_warning(model)
+    if start is not None:
+        start = SizeField(start.base / s.length, s.points_in(start.points), start.sizes / s.length)
     try:
-        raw, mismatch, support_w = _solve_dimensionless(dimensionless(model, s), size / s.length, lower_bound, s,
-                                                        option)
+        run = _refine(dimensionless(model, s), size / s.length, uniform, lower_bound, s, option, target, limit,
+                      start, t0)
     except HeldLoadCollapse as err:
-        err.result = _held_alone(model, resolution, mesh_size)
+        err.result = _held_alone(model, nodes, mesh_size)
         if hint is not None:
             err.args = (f"{err}; {hint}",)
         raise
@@ -66,6 +95,7 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
         if hint is None:
             raise
         raise UnstableSlabError(f"{err}; {hint}") from None
+    raw, mismatch, support_w, lower_raw, steps, stop, field = run
 
     lf = rescale.load_factor(raw.load_factor, s)
     mech = rescale.mechanism(raw.mechanism, s)
@@ -86,20 +116,34 @@ def solve(model: Model, resolution: str | None = None, mesh_size: float | None =
             "to the developers")
     warnings += raw.warnings
     lb = None
-    if raw.lower_bound is not None:
-        lb = rescale.lower_bound(raw.lower_bound, s)
+    if lower_raw is not None:
+        lb = rescale.lower_bound(lower_raw, s)
         if lb.load_factor is not None and lb.load_factor > lf * (1 + CERTIFICATE_RTOL):
             warnings.append(
                 f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
                 "wrong; report this model to the developers")
+    steps = tuple(RefinementStep(st.nodes, rescale.load_factor(st.load_factor, s),
+                                 rescale.load_factor(st.lower_bound, s), st.gap, st.seconds) for st in steps)
+    result_gap = None
+    if lb is not None and lb.load_factor is not None:
+        result_gap = (lf - lb.load_factor) / lf
+    if not uniform and stop != "gap" and (result_gap is None or result_gap > target):
+        shown = "no lower bound" if result_gap is None else f"a gap of {100 * result_gap:.2f} %"
+        warnings.append(f"the target gap of {100 * target:.2f} % was not reached ({STOP_REASONS[stop]}); "
+                        f"refinement ended with {shown}")
     warnings += [*review.continuous_without_hogging(model), *review.wide_gap(lf, lb), *review.uplift(mech)]
     stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - t0)
-    log.info("load factor %.6g (certificate %.6g), %.2f s", lf, check.load_factor, stats.seconds)
-    return Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
-                  check, tuple(warnings), lower_bound=lb)
+    log.info("load factor %.6g (certificate %.6g), %.2f s, %d steps, stop: %s", lf, check.load_factor,
+             stats.seconds, len(steps), stop)
+    result = Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
+                    check, tuple(warnings), lower_bound=lb, refinement=steps, stop=stop,
+                    target_gap=None if uniform else target)
+    if field is not None:
+        field = SizeField(field.base * s.length, s.points_out(field.points), field.sizes * s.length)
+    return result, field
 
 
-def _held_alone(model: Model, resolution: str | None, mesh_size: float | None) -> Result | None:
+def _held_alone(model: Model, nodes: int | None, mesh_size: float | None) -> Result | None:
     """The mechanism of the held loads alone, as if they were the scaled ones: its load
     factor (below 1) is the fraction of the held loads at which the slab collapses. None
     when it cannot be found."""
@@ -107,7 +151,7 @@ def _held_alone(model: Model, resolution: str | None, mesh_size: float | None) -
     if not held:
         return None
     try:
-        r = solve(replace(model, loads=held, cases=()), resolution, mesh_size, lower_bound=False)
+        r = solve(replace(model, loads=held, cases=()), nodes, mesh_size, lower_bound=False)
     except (UnstableSlabError, SolverError):
         return None
     note = (f"this is the mechanism of the held loads alone: the slab collapses at {r.load_factor:.4g} times "
@@ -115,33 +159,100 @@ def _held_alone(model: Model, resolution: str | None, mesh_size: float | None) -
     return replace(r, warnings=(note, *r.warnings))
 
 
-def size_option(model: Model, resolution: str | None, mesh_size: float | None) -> str:
-    """How the element size of a solve was set, in the words a user would recognise (for
-    messages): the mesh_size argument, the file's analysis.mesh_size, or a resolution word."""
-    if mesh_size:
-        return "mesh_size"
-    if resolution is None and model.analysis.mesh_size:
-        return "analysis.mesh_size"
-    return f'resolution "{resolution or model.analysis.resolution}"'
+def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scales, option: str,
+            target: float, limit: float, start: SizeField | None, t0: float):
+    """The meshes of one solve, in the units `s` (element size `size` in those units).
 
-
-def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales, option: str):
-    """The solve on `model` restated in the units `s` (model/scaling.py), with element size
-    `size` in those units; option: how the size was set (size_option). Returns (Result in those units, whose warnings are only those of
-    the line search and the lower bound; largest disagreement between planes meeting at a
-    vertex and largest |w| found on a supported edge, both relative to the largest |w|)."""
-    t0 = time.perf_counter()
+    Returns (step result holding the lowest upper bound, its plane mismatch and |w| on
+    supports, the LowerBound holding the highest proven lower bound (None without one),
+    the steps as RefinementStep in those units, the stop reason, the last size field or
+    None for a uniform mesh)."""
     domain = build_domain(model, margin=size)
-    mesh = mesh_domain(domain, model, size)
+    field = start if start is not None else SizeField(size, np.zeros((0, 2)), np.zeros(0))
+    steps, best, lower, prev = [], None, None, None
+    up_best = lo_best = None
+    last_gap = milder = None
+    while True:
+        mesh = mesh_domain(domain, model, size, None if uniform else field)
+        if len(mesh.nodes) > MAX_NODES:
+            if steps:
+                stop = "nodes"
+                break
+            raise ModelError(
+                f"{option} = {size * s.length:.4g} m gives {len(mesh.nodes):,} nodes, more than the {MAX_NODES:,} "
+                f"that hingeline handles; use a larger {option}")
+        elapsed = time.perf_counter() - t0
+        if steps:
+            # A step costs more than in proportion to its nodes: candidate lines grow with their square, and
+            # the steps of the clamped square were measured to grow as nodes^1.7 to nodes^2.6.
+            guess = steps[-1].seconds * (len(mesh.nodes) / prev[1]) ** 2
+            if elapsed + guess > limit and milder is not None:
+                # Too big for the time left: refine the same places by less, once.
+                field, milder = milder, None
+                continue
+            if elapsed + guess > limit:
+                stop = "time"
+                break
+        carried = None if prev is None else carried_lines(prev[0], prev[2], mesh.nodes)
+        t_step = time.perf_counter()
+        raw, mismatch, support_w, active = _solve_on_mesh(model, domain, mesh, size, lower_bound, s, option,
+                                                          carried)
+        lb = raw.lower_bound
+        lo = None if lb is None else lb.load_factor
+        step_gap = None if lo is None else (raw.load_factor - lo) / raw.load_factor
+        steps.append(RefinementStep(raw.stats.slab_nodes, raw.load_factor, lo, step_gap,
+                                    time.perf_counter() - t_step))
+        if up_best is None or raw.load_factor < up_best:
+            best, up_best = (raw, mismatch, support_w), raw.load_factor
+        if lb is not None and (lower is None or (lo is not None and (lo_best is None or lo > lo_best))):
+            lower, lo_best = lb, (lo if lo is not None else lo_best)
+        prev = (mesh.nodes, len(mesh.nodes), active)
+        log.info("refinement step %d: %d nodes, upper %.6g, lower %s, %.2f s", len(steps), len(mesh.nodes),
+                 raw.load_factor, lo, steps[-1].seconds)
+        if uniform:
+            stop = "uniform"
+            break
+        now = None if lo_best is None else (up_best - lo_best) / up_best
+        if now is not None and now <= target:
+            stop = "gap"
+            break
+        if time.perf_counter() - t0 >= limit:
+            stop = "time"
+            break
+        if lower_bound and now is not None:
+            if last_gap is not None and now > NARROWING * last_gap:
+                stop = "stalled"
+                break
+            last_gap = now
+        elif len(steps) > 1 and steps[-2].load_factor - up_best < 0.25 * target * up_best:
+            # Without a lower bound: stop when the upper bound no longer falls by a quarter of the target.
+            stop = "stalled"
+            break
+        marks = refinement_points(model, domain, raw.yield_lines, lb, field)
+        field, milder = field.refined(marks, REFINE_FACTOR), field.refined(marks, np.sqrt(REFINE_FACTOR))
+    raw, mismatch, support_w = best
+    # Warnings about a missing lower bound belong to the step whose bound is kept.
+    keep = [w for w in raw.warnings if not w.startswith("no lower bound")]
+    if lower is not None and lower.load_factor is None:
+        keep.append(f"no lower bound: {lower.reason}")
+    raw = replace(raw, warnings=tuple(keep), lower_bound=None)
+    return raw, mismatch, support_w, lower, steps, stop, None if uniform else field
+
+
+def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s: Scales, option: str,
+                   carried: np.ndarray | None = None):
+    """The solve of both bounds on one mesh of `model` restated in the units `s`
+    (model/scaling.py), with base element size `size` in those units; option: how the size was
+    set (for messages). Returns (Result in those units, whose warnings are only those of the
+    line search and the lower bound; largest disagreement between planes meeting at a vertex
+    and largest |w| found on a supported edge, both relative to the largest |w|; node pairs
+    (k, 2) of the active lines)."""
+    t0 = time.perf_counter()
     nodes = mesh.nodes
-    if len(nodes) > MAX_NODES:
-        raise ModelError(
-            f"{option} = {size * s.length:.4g} m gives {len(nodes):,} nodes, more than the {MAX_NODES:,} "
-            f"that hingeline handles; use a larger {option}")
     source = candidate_source(nodes, domain, model)
     cap = model.capacity
     m_ref = max(*cap.sagging, *cap.hogging)
-    sol = solve_lp(source, mesh.edges, m_ref, tol=VIOLATION_TOL)
+    sol = solve_lp(source, mesh.edges, m_ref, tol=VIOLATION_TOL, carried=carried)
     cand, f, g = sol.lines.cand, sol.lines.f, sol.lines.g
     log.info("mesh: %d nodes, %d candidate lines", len(nodes), sol.candidates)
     w_total = total_force(model, domain)
@@ -170,7 +281,7 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     if sol.max_violation > VIOLATION_TOL:
         warnings.append(
             f"the search for yield lines stopped before proving that no other node-to-node line "
-            f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer resolution "
+            f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer mesh "
             "may give a slightly lower load factor")
     lb = _lower_bound(model, domain, mesh, float(lf), warnings) if lower_bound else None
     seconds = time.perf_counter() - t0
@@ -182,7 +293,9 @@ def _solve_dimensionless(model: Model, size: float, lower_bound: bool, s: Scales
     check = CertificateCheck(float("nan"), internal, factored, held, 0.0)
     result = Result(model, float(lf), lines, Work(internal, factored, held), mech, stats, check,
                     tuple(warnings), lower_bound=lb)
-    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300)
+    act = active_lines(theta)
+    active = np.stack([cand.a[act], cand.b[act]], axis=1)
+    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300), active
 
 
 def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
@@ -224,7 +337,7 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
         reason = f"the lower-bound solver stopped with status '{sol.status}'"
         if "Infeasible" in sol.status:
             reason = ("no moment field on this mesh carries the held loads (scaled = false) within the capacities, "
-                      "so nothing can be proven even at load factor 0; a finer resolution may find one")
+                      "so nothing can be proven even at load factor 0; a finer mesh may find one")
         warnings.append(f"no lower bound: {reason}")
         return LowerBound(None, None, None, None, sol.status, seconds, reason)
     value, reason = sol.load_factor, ""
@@ -243,18 +356,46 @@ def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> Lowe
     return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, seconds, reason)
 
 
-def solve_cases(model: Model, resolution: str | None = None, mesh_size: float | None = None,
-                lower_bound: bool = True) -> Result:
+def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None = None,
+                lower_bound: bool = True, gap: float | None = None, time_limit: float | None = None) -> Result:
     """Solve every load case of `model` (or the model itself when it has none) and return the
     governing result: the case with the lowest load factor, carrying the table of all cases
     with each case's lower bound (the slab carries every case at the smallest of them); the
-    result's own lower bound is that of the governing case."""
+    result's own lower bound is that of the governing case.
+
+    With adaptive refinement (see `solve`), every case is first solved on the first, coarse
+    mesh (upper bound only); the case governing there is refined, and the other cases start from the refined
+    mesh sizes of the governing case (the size field, valid for any loads on the slab) and
+    refine further only if their own bracket needs it, within what is left of the time limit.
+    """
     if not model.cases:
-        return solve(model, resolution, mesh_size, lower_bound)
-    results = []
-    for case in model.cases:
-        log.info("load case %s", case.name)
-        results.append((case.name, solve(model_for_case(model, case), resolution, mesh_size, lower_bound)))
+        return solve(model, nodes, mesh_size, lower_bound, gap, time_limit)
+    t0 = time.perf_counter()
+    uniform, size, _ = mesh_plan(model, nodes, mesh_size)
+    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
+    cases = [(case.name, model_for_case(model, case)) for case in model.cases]
+    if uniform:
+        results = []
+        for name, m in cases:
+            log.info("load case %s", name)
+            results.append((name, solve(m, nodes, mesh_size, lower_bound, gap, time_limit)))
+    else:
+        first = []
+        for name, m in cases:
+            # Only the upper bound picks the governing case: no lower bound on this pass.
+            log.info("load case %s, first mesh", name)
+            first.append(solve(m, mesh_size=size, lower_bound=False).load_factor)
+        lead = int(np.argmin(first))
+        log.info("load case %s governs on the first mesh: refining it", cases[lead][0])
+        governing, field = _solve(cases[lead][1], None, None, lower_bound, gap, limit - (time.perf_counter() - t0))
+        results = []
+        for k, (name, m) in enumerate(cases):
+            if k == lead:
+                results.append((name, governing))
+                continue
+            log.info("load case %s, from the refined mesh of case %s", name, cases[lead][0])
+            left = max(limit - (time.perf_counter() - t0), 1e-3)
+            results.append((name, _solve(m, None, None, lower_bound, gap, left, start=field)[0]))
     name, governing = min(results, key=lambda nr: nr[1].load_factor)
     table = tuple((n, r.load_factor) for n, r in results)
     lowers = tuple(r.lower_bound.load_factor if r.lower_bound else None for _, r in results) if lower_bound else ()

@@ -39,7 +39,7 @@ hogging = 20.0
 type = "area"
 value = 6.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -90,10 +90,12 @@ def test_usage_errors_exit_2(tmp_path, capsys, monkeypatch):
     model = write_model(tmp_path, GOOD_MODEL)
     assert main([]) == 2                                              # no subcommand
     assert main(["solve", str(model)]) == 2                           # -o missing
-    assert main(["solve", str(model), "-o", "x", "--resolution", "ultra"]) == 2
+    assert main(["solve", str(model), "-o", "x", "--nodes", "ultra"]) == 2
     assert main(["frobnicate"]) == 2
     err = capsys.readouterr().err
     assert "ultra" in err
+    assert main(["solve", str(model), "-o", "x", "--gap", "2"]) == 2
+    assert "--gap" in capsys.readouterr().err
     assert main(["solve", str(model), "-o", "x", "--mesh-size", "-0.2"]) == 2
     assert "--mesh-size must be > 0 m" in capsys.readouterr().err
     assert main(["solve", str(model), "-o", "x", "--mesh-size", "fine"]) == 2
@@ -127,7 +129,8 @@ def test_bundled_demo_model_is_valid_and_as_described():
     assert model.capacity.sagging[0] != model.capacity.sagging[1]      # orthotropic
     assert max(model.capacity.hogging) > 0
     assert any(ld.factored for ld in model.loads) and any(not ld.factored for ld in model.loads)
-    assert model.analysis.resolution == "normal"
+    assert model.analysis.nodes is None and model.analysis.mesh_size is None   # refined adaptively
+    assert model.analysis.target_gap == 0.03
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
@@ -177,9 +180,9 @@ def fake_solver(monkeypatch):
     calls: list[dict] = []
     behaviour: dict = {"raise": None}
 
-    def solve(model, resolution=None, mesh_size=None, lower_bound=True):
-        calls.append({"model": model, "resolution": resolution, "mesh_size": mesh_size,
-                      "lower_bound": lower_bound})
+    def solve(model, nodes=None, mesh_size=None, lower_bound=True, gap=None, time_limit=None):
+        calls.append({"model": model, "nodes": nodes, "mesh_size": mesh_size,
+                      "lower_bound": lower_bound, "gap": gap, "time_limit": time_limit})
         if behaviour["raise"] is not None:
             raise behaviour["raise"]
         return fan_result(model)
@@ -194,10 +197,10 @@ def fake_solver(monkeypatch):
 def test_solve_writes_outputs_and_prints_summary(tmp_path, capsys, fake_solver):
     model = write_model(tmp_path, GOOD_MODEL)
     outdir = tmp_path / "out"
-    code = main(["solve", str(model), "-o", str(outdir), "--resolution", "fine"])
+    code = main(["solve", str(model), "-o", str(outdir), "--nodes", "1100"])
     out = capsys.readouterr().out
     assert code == 0
-    assert fake_solver.calls[0]["resolution"] == "fine"
+    assert fake_solver.calls[0]["nodes"] == 1100
     assert fake_solver.calls[0]["lower_bound"] is True
     assert fake_solver.calls[0]["model"].title == "CLI test slab"
     assert sorted(p.name for p in outdir.iterdir()) == ["deflection.png", "deflection.svg", "mechanism.png",
@@ -217,7 +220,7 @@ def test_solve_mesh_size_passed_through(tmp_path, fake_solver):
     model = write_model(tmp_path, GOOD_MODEL)
     assert main(["solve", str(model), "-o", str(tmp_path / "o"), "--mesh-size", "0.4"]) == 0
     assert fake_solver.calls[0]["mesh_size"] == 0.4
-    assert fake_solver.calls[0]["resolution"] is None
+    assert fake_solver.calls[0]["nodes"] is None
 
 
 def test_too_fine_mesh_size_option_exit_2_before_solving(tmp_path, capsys, fake_solver):
@@ -242,7 +245,7 @@ def test_too_fine_mesh_size_in_file_exit_2_before_meshing(tmp_path, capsys, monk
 
     monkeypatch.setattr(importlib.import_module("hingeline.solve"), "mesh_domain", no_mesher)
     text = GOOD_MODEL.replace("[5.0, 0.0], [5.0, 4.0], [0.0, 4.0]", "[6.0, 0.0], [6.0, 6.0], [0.0, 6.0]")
-    model = write_model(tmp_path, text.replace('resolution = "coarse"', "mesh_size = 1e-4"))
+    model = write_model(tmp_path, text.replace('nodes = 150', "mesh_size = 1e-4"))
     assert main(["solve", str(model), "-o", str(tmp_path / "o")]) == 2
     err = capsys.readouterr().err
     assert err.startswith("error: analysis.mesh_size = 0.0001 m would mesh the slab with about"), err
@@ -371,7 +374,7 @@ hogging = 1.0
 type = "area"
 value = 48.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """)
     assert main(["design", str(model)]) == 0
     out = capsys.readouterr().out

@@ -105,7 +105,7 @@ def test_collapse_under_held_loads_alone_is_drawn_and_stored(tmp_path, capsys):
     text = text.replace("sagging = 20.0\nhogging = 20.0", "sagging = 1.0\nhogging = 1.0")
     model = write_model(tmp_path, text)
     outdir = tmp_path / "out"
-    assert main(["solve", str(model), "-o", str(outdir), "--no-lower-bound", "--resolution", "coarse"]) == 2
+    assert main(["solve", str(model), "-o", str(outdir), "--no-lower-bound", "--nodes", "150"]) == 2
     captured = capsys.readouterr()
     assert "held" in captured.err and "mechanism is written" in captured.out
     data = json.loads((outdir / "result.json").read_text(encoding="utf-8"))

@@ -1,7 +1,7 @@
 """The lower bound against closed-form collapse loads and the virtual-work principle.
 
 By the lower-bound theorem the value must lie at or below the exact collapse factor; the
-tests below also state how close it must come at resolution "normal". Unit slabs, q = 1 kPa,
+tests below also state how close it must come at 450 nodes. Unit slabs, q = 1 kPa,
 so load factors are coefficients of m / L^2. conftest.py adds to every solve of the suite that the
 lower bound is at or below the load factor and that its field re-checks.
 """
@@ -18,15 +18,15 @@ from hingeline.lower import SIDES, MomentField, slab_triangles, solve_lower_boun
 from hingeline.lower.fieldcheck import _Poly, check_field, yield_ratio
 
 
-def lower(m, res="normal"):
-    r = hingeline.solve(m, resolution=res)
+def lower(m, res=450):
+    r = hingeline.solve(m, nodes=res)
     assert r.lower_bound is not None and r.lower_bound.load_factor is not None, r.warnings
     return r.lower_bound.load_factor, r
 
 
 def test_simply_supported_square():
     # Exact 24 m/L^2 (Johansen's diagonal pattern; a static field reaching it exists, Nielsen &
-    # Hoang, Limit Analysis and Concrete Plasticity - recalled). Target: within 2 % at "normal".
+    # Hoang, Limit Analysis and Concrete Plasticity - recalled). Target: within 2 % at 450 nodes.
     lb, r = lower(model(SQUARE, "simple"))
     assert 24.0 * 0.98 <= lb <= 24.0
     assert r.gap < 0.02
@@ -53,7 +53,7 @@ def test_regular_polygon():
 def test_orthotropic_square_below_affinity_value():
     # Johansen's affinity theorem: m and 0.5 m on the unit square behave as the isotropic
     # 1 x sqrt(2) rectangle, 17.722 m/L^2 (an upper bound from Johansen's pattern).
-    lb, _ = lower(model(SQUARE, "simple", sagging=[1.0, 0.5], hogging=[1.0, 0.5]), "coarse")
+    lb, _ = lower(model(SQUARE, "simple", sagging=[1.0, 0.5], hogging=[1.0, 0.5]), 150)
     exact = johansen_rectangle(1.0, 1.0 / math.sqrt(0.5))
     assert 0.97 * exact <= lb <= exact
 
@@ -61,8 +61,8 @@ def test_orthotropic_square_below_affinity_value():
 def test_skew_bars_give_same_bound_when_turned():
     # Bars turned by 90 degrees with capacities swapped describe the same slab (symmetry of the
     # criterion; no source needed): the same lower bound to solver accuracy.
-    a, _ = lower(model(SQUARE, "simple", sagging=[1.0, 0.5], hogging=[1.0, 0.5]), "coarse")
-    b, _ = lower(model(SQUARE, "simple", sagging=[0.5, 1.0], hogging=[0.5, 1.0], bar_angle=90.0), "coarse")
+    a, _ = lower(model(SQUARE, "simple", sagging=[1.0, 0.5], hogging=[1.0, 0.5]), 150)
+    b, _ = lower(model(SQUARE, "simple", sagging=[0.5, 1.0], hogging=[0.5, 1.0], bar_angle=90.0), 150)
     assert a == pytest.approx(b, rel=1e-5)
 
 
@@ -78,7 +78,7 @@ def exact_square_field(nodes, tri, m=1.0, L=1.0):
     return np.stack([m * (1 - 4 * x**2 / L**2), m * (1 - 4 * y**2 / L**2), -4 * m * x * y / L**2], axis=-1)
 
 
-def _mesh(m, res="coarse"):
+def _mesh(m, res=150):
     size = mesh_size_for(m, res)
     d = build_domain(m, margin=size)
     mesh = mesh_domain(d, m, size)
@@ -123,7 +123,7 @@ sagging = 1.0
 hogging = 1.0
 {load}
 [analysis]
-resolution = "coarse"
+nodes = 150
 '''
 
 
@@ -170,7 +170,7 @@ def test_zero_hogging_capacity_and_held_load():
     # A slab without top bars (m' = 0) with a held load: a valid model; the bound must exist,
     # and conftest.py checks it lies below the load factor and re-checks.
     m = model(SQUARE, "simple", hogging=0.0, extra='[[load]]\ntype = "area"\nvalue = 0.5\nscaled = false')
-    lb, r = lower(m, "coarse")
+    lb, r = lower(m, 150)
     assert 0.0 < lb <= r.load_factor
 
 
@@ -197,9 +197,9 @@ hogging = 1.0
 type = "area"
 value = 1.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
-        return lower(hingeline.model_from_toml(text), "coarse")[0]
+        return lower(hingeline.model_from_toml(text), 150)[0]
     simple, half, zero, full = lb(0, "simple"), lb(0.5), lb(0.0), lb(1.0)
     assert simple < half < full
     assert zero == pytest.approx(simple, rel=1e-5)
@@ -210,10 +210,10 @@ def test_isotropic_bound_does_not_depend_on_bar_angle():
     # the square criterion in principal moments), so turning the bars must not change the lower
     # bound on the same mesh (no source needed: a property of the criterion). A wrong rotation
     # of the moments into bar axes would break this.
-    text = model(SQUARE, "continuous", sagging=1.0, hogging=0.6, resolution="coarse")
-    turned = model(SQUARE, "continuous", sagging=1.0, hogging=0.6, resolution="coarse", bar_angle=30.0)
-    a, _ = lower(text, "coarse")
-    b, _ = lower(turned, "coarse")
+    text = model(SQUARE, "continuous", sagging=1.0, hogging=0.6, nodes=150)
+    turned = model(SQUARE, "continuous", sagging=1.0, hogging=0.6, nodes=150, bar_angle=30.0)
+    a, _ = lower(text, 150)
+    b, _ = lower(turned, 150)
     assert a == pytest.approx(b, rel=1e-5)
 
 

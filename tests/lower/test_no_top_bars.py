@@ -4,7 +4,7 @@ By the lower-bound theorem a statically admissible field proves a load factor at
 collapse factor, which the mechanism's load factor bounds from above; conftest.py asserts on
 every solve that the lower bound is at or below the load factor and that its field re-checks
 (equilibrium, and yield nowhere exceeded, from the field alone). The 6 m slabs are those of
-benchmarks/lower_no_top_bars.py, which measures their gaps at the default resolution.
+benchmarks/lower_no_top_bars.py, which measures their gaps at 450 nodes.
 """
 import dataclasses
 
@@ -32,7 +32,7 @@ RECT = [[0, 0], [6, 0], [6, 4], [0, 4]]
 ONE_FREE = ["simple", "simple", "free", "simple"]
 
 
-def slab(outline, edges, hogging, opening=None, resolution="coarse"):
+def slab(outline, edges, hogging, opening=None, nodes=150):
     hole = f'[[slab.opening]]\npolygon = {opening}' if opening else ""
     return hingeline.model_from_toml(f"""
 [slab]
@@ -46,29 +46,29 @@ hogging = {hogging}
 type = "area"
 value = 10.0
 [analysis]
-resolution = "{resolution}"
+nodes = {nodes}
 """.replace("'", '"'))
 
 
-# (outline, edges, hogging, opening, resolution, largest gap). The gap limits are this
+# (outline, edges, hogging, opening, nodes, largest gap). The gap limits are this
 # project's targets for slabs without top bars beside openings and free edges, where the bound
-# used to be exactly 0: 5 % at "normal" (measured 2.0, 2.3 and 3.1 % for the three slabs in
-# benchmarks/lower_no_top_bars.py); two of them run at "coarse" to keep the suite short, with
+# used to be exactly 0: 5 % at 450 nodes (measured 2.0, 2.3 and 3.1 % for the three slabs in
+# benchmarks/lower_no_top_bars.py); two of them run at 150 nodes to keep the suite short, with
 # limits just above the gaps measured there (4.2 and 5.0 %).
 SIX = {
-    "square, hogging 0": (SQUARE6, "simple", 0.0, None, "coarse", 0.06),
-    "opening, hogging 0": (SQUARE6, "simple", 0.0, OPENING, "coarse", 0.06),
-    "free edge, hogging 0": (RECT, ONE_FREE, 0.0, None, "normal", 0.05),
-    "opening, hogging 20": (SQUARE6, "simple", 20.0, OPENING, "coarse", None),
-    "opening, hogging 4": (SQUARE6, "simple", 4.0, OPENING, "coarse", None),
-    "opening, hogging 1": (SQUARE6, "simple", 1.0, OPENING, "coarse", None),
+    "square, hogging 0": (SQUARE6, "simple", 0.0, None, 150, 0.06),
+    "opening, hogging 0": (SQUARE6, "simple", 0.0, OPENING, 150, 0.06),
+    "free edge, hogging 0": (RECT, ONE_FREE, 0.0, None, 450, 0.05),
+    "opening, hogging 20": (SQUARE6, "simple", 20.0, OPENING, 150, None),
+    "opening, hogging 4": (SQUARE6, "simple", 4.0, OPENING, 150, None),
+    "opening, hogging 1": (SQUARE6, "simple", 1.0, OPENING, 150, None),
 }
 
 
 @pytest.mark.parametrize("name", SIX)
 def test_six_slabs_bracket(name):
-    outline, edges, hogging, opening, resolution, gap = SIX[name]
-    r = hingeline.solve(slab(outline, edges, hogging, opening, resolution))
+    outline, edges, hogging, opening, nodes, gap = SIX[name]
+    r = hingeline.solve(slab(outline, edges, hogging, opening, nodes))
     lower = r.lower_bound.load_factor
     assert lower is not None and 0.0 < lower <= r.load_factor, r.warnings
     if gap is not None:
@@ -83,12 +83,12 @@ def test_simply_supported_square_without_top_bars_brackets_half_fox():
     exact = 42.851 / 2
     r = hingeline.solve(model(SQUARE, "simple", hogging=0.0))
     assert r.load_factor >= exact * (1 - 1e-3)
-    assert 0.95 * exact <= r.lower_bound.load_factor <= exact   # 0.95: project target at "coarse"
+    assert 0.95 * exact <= r.lower_bound.load_factor <= exact   # 0.95: project target at 150 nodes
 
 
 def _solved_free_edge_field():
     m = slab(RECT, ONE_FREE, 0.0)
-    size = mesh_size_for(m, "coarse")
+    size = mesh_size_for(m, 150)
     d = build_domain(m, margin=size)
     mesh = mesh_domain(d, m, size)
     sol = solve_lower_bound(m, d, mesh.nodes, mesh.triangles)
@@ -204,11 +204,11 @@ def side_control(a, b):
     return 3 + next(k for k, side in enumerate(SIDES) if set(side) == {a, b})
 
 
-def _scaled_slab(s, outline, edges, opening, resolution):
+def _scaled_slab(s, outline, edges, opening, nodes):
     """The slab of `slab` drawn s times larger in plan, with its capacities times s^2."""
     big = [[s * x, s * y] for x, y in outline]
     hole = [[s * x, s * y] for x, y in opening]
-    m = slab(big, edges, 0.0, hole, resolution)
+    m = slab(big, edges, 0.0, hole, nodes)
     cap = m.capacity
     return dataclasses.replace(m, capacity=dataclasses.replace(
         cap, sagging=tuple(s * s * v for v in cap.sagging), hogging=tuple(s * s * v for v in cap.hogging)))
@@ -222,9 +222,9 @@ def test_lower_bound_without_top_bars_is_proven_at_any_size():
     # bars the field's zero-capacity branch has no margin in the cone program; at either size
     # the field must re-check inside the criterion itself (ratio <= 1, not a bound scaled down
     # by the ratio) and give the same lower bound (1e-6: the solver's tolerance is about 1e-8).
-    outline, edges, _, opening, resolution, _ = SIX["opening, hogging 0"]
-    small = hingeline.solve(slab(outline, edges, 0.0, opening, resolution)).lower_bound
-    large = hingeline.solve(_scaled_slab(10.0, outline, edges, opening, resolution)).lower_bound
+    outline, edges, _, opening, nodes, _ = SIX["opening, hogging 0"]
+    small = hingeline.solve(slab(outline, edges, 0.0, opening, nodes)).lower_bound
+    large = hingeline.solve(_scaled_slab(10.0, outline, edges, opening, nodes)).lower_bound
     for lb in (small, large):
         assert lb.check.in_equilibrium and lb.check.yield_ratio <= 1.0, lb.check
         assert lb.load_factor == lb.solved

@@ -44,8 +44,9 @@ scaled = false
 name = "finishes"
 
 [analysis]
-resolution = "fine"
 mesh_size = 0.25
+target_gap = 0.02
+time_limit = 60
 """
 
 

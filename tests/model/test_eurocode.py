@@ -19,7 +19,7 @@ bottom_2 = {{diameter = 12, spacing = 150, cover = 37}}
 type = "area"
 value = 10.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

@@ -33,7 +33,8 @@ def test_valid_model_round_trip():
     assert first.value == 5.0 and first.factored is True and first.name == "load 1"
     assert first.region.dtype == np.float64 and first.region.shape == (4, 2)
     assert second.region is None and second.factored is False and second.name == "finishes"
-    assert m.analysis.resolution == "fine" and m.analysis.mesh_size == 0.25
+    assert m.analysis.nodes is None and m.analysis.mesh_size == 0.25
+    assert m.analysis.target_gap == 0.02 and m.analysis.time_limit == 60.0
 
 
 def test_defaults():
@@ -43,7 +44,8 @@ def test_defaults():
     assert m.capacity.sagging == (20.0, 20.0)
     assert m.capacity.hogging == (0.0, 0.0)
     assert m.capacity.bar_angle == 0.0
-    assert m.analysis.resolution == "normal" and m.analysis.mesh_size is None
+    assert m.analysis.nodes is None and m.analysis.mesh_size is None
+    assert m.analysis.target_gap == 0.03 and m.analysis.time_limit == 120.0
     (load,) = m.loads
     assert load.region is None and load.factored is True and load.name == "load 1"
 
@@ -150,11 +152,35 @@ def test_non_table_model_data():
 # --- analysis --------------------------------------------------------------------------------
 
 
-def test_bad_resolution():
+@pytest.mark.parametrize("word", ["coarse", "normal", "fine", "medium"])
+def test_the_old_resolution_key_is_refused_naming_its_replacement(word):
     d = base()
-    d["analysis"] = {"resolution": "medium"}
+    d["analysis"] = {"resolution": word}
     msg = error_of(d)
-    assert "analysis.resolution" in msg and '"coarse", "normal", "fine"' in msg
+    assert "analysis.resolution is no longer read" in msg
+    assert "analysis.nodes" in msg and "coarse = 150, normal = 450, fine = 1100" in msg
+    assert "analysis.target_gap" in msg
+
+
+def test_nodes_gap_and_time_limit_are_read():
+    d = base()
+    d["analysis"] = {"nodes": 300}
+    assert parse_model(d).analysis.nodes == 300
+    d["analysis"] = {"target_gap": 0.01, "time_limit": 30}
+    a = parse_model(d).analysis
+    assert a.nodes is None and a.target_gap == 0.01 and a.time_limit == 30.0
+
+
+@pytest.mark.parametrize("analysis, words", [
+    ({"nodes": 0}, "analysis.nodes"), ({"nodes": 4.5}, "analysis.nodes"), ({"nodes": True}, "analysis.nodes"),
+    ({"nodes": 300, "mesh_size": 0.2}, "keep one of them"), ({"target_gap": 0}, "analysis.target_gap"),
+    ({"target_gap": 1.5}, "analysis.target_gap"), ({"time_limit": -1}, "analysis.time_limit"),
+    ({"time_limit": "long"}, "analysis.time_limit"),
+])
+def test_bad_mesh_settings(analysis, words):
+    d = base()
+    d["analysis"] = analysis
+    assert words in error_of(d)
 
 
 @pytest.mark.parametrize("size", [0, -0.1, float("nan")])

@@ -8,5 +8,5 @@ from hingeline.model import model_from_toml
 
 @pytest.fixture(scope="session")
 def notched_result():
-    """The notched panel of plot_scene.py, solved at the coarse resolution (with its lower bound)."""
+    """The notched panel of plot_scene.py, solved on a uniform mesh of 150 nodes (with its lower bound)."""
     return solve(model_from_toml(NOTCHED_PANEL))

@@ -2,7 +2,7 @@
 
 The slab is an invented test scenario: a 5 m x 3.6 m panel with a notch (an
 L-shape), one small opening, simple and continuous edges and one free edge,
-solved at the "coarse" resolution (fixture `notched_result` in conftest.py).
+solved on a uniform mesh of 150 nodes (fixture `notched_result` in conftest.py).
 """
 from __future__ import annotations
 
@@ -26,7 +26,7 @@ hogging = 20.0
 type = "area"
 value = 8.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

@@ -3,7 +3,7 @@ hinges along continuous edges, numbered yield lines, the colour bar and legend o
 tall slabs, the footer of each drawing and the stamp (case, mesh, version, date, file).
 
 The slabs are invented test scenarios (the notched panel of plot_scene.py, a long and a
-tall rectangle), solved at the coarse resolution; no engineering result is checked here.
+tall rectangle), solved on a uniform mesh of 150 nodes; no engineering result is checked here.
 The SHA-256 check value is computed by hashlib from the file's bytes.
 """
 from __future__ import annotations
@@ -44,7 +44,7 @@ hogging = 10.0
 type = "area"
 value = 6.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

@@ -40,7 +40,7 @@ hogging = 25.0
 type = "area"
 value = 8.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

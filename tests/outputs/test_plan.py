@@ -65,7 +65,7 @@ type = "point"
 value = 5.0
 at = [1.0, 3.0]
 [analysis]
-resolution = "coarse"
+nodes = 150
 """))
     ax = plot_pattern(r)
     labels = {a.get_label() for a in [*ax.patches, *ax.lines]}

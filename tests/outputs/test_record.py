@@ -55,7 +55,7 @@ value = 6.0
 scaled = false
 
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -95,7 +95,7 @@ def _rows(values, table):
 def coarse_report(tmp_path_factory):
     model = model_from_toml(L_SLAB, source="L-slab")
     out = tmp_path_factory.mktemp("report")
-    path = write_report(model, out, resolutions=("coarse",), primary="coarse")
+    path = write_report(model, out, nodes=150)
     return model, path, path.read_text(encoding="utf-8")
 
 
@@ -175,44 +175,46 @@ def test_report_data_matches_the_result():
     model = model_from_toml(L_SLAB, source="L-slab")
     from hingeline import solve
 
-    res = solve(model, resolution="coarse")
-    data = report_data(model, {"coarse": res})
+    res = solve(model, nodes=150)
+    data = report_data(model, res)
     bal = data["balance"]
-    assert data["primary"] == "coarse"
+    assert [r["nodes"] for r in data["refinement"]] == [res.stats.slab_nodes]
     assert bal["internal_sum"] == pytest.approx(res.work.internal, abs=1e-6)
     assert bal["internal"] == pytest.approx(bal["held"] + res.load_factor * bal["factored"], abs=1e-6)
     assert bal["factored"] == pytest.approx(res.work.factored, abs=1e-6)
     assert bal["held"] == pytest.approx(res.work.held, abs=1e-6)
     # a continuous edge is present and the mechanism hinges along it
     assert bal["groups"][2][1] > 0 and bal["groups"][2][2] > 0
-    html_text = build_report(model, {"coarse": res}, generated="test")
-    assert "Only one resolution was solved" in html_text
+    html_text = build_report(model, res, generated="test")
+    assert "One mesh was solved" in html_text
     lb = data["lower_bound"]
     assert lb["load_factor"] == res.lower_bound.load_factor and lb["gap"] == pytest.approx(res.gap)
     # without a lower bound the section says why, and draws no utilisation plot
     for lower, says in ((None, "not computed"),
                         (dataclasses.replace(res.lower_bound, load_factor=None, reason="invented test reason"),
                          "No lower bound: invented test reason")):
-        page = build_report(model, {"coarse": dataclasses.replace(res, lower_bound=lower)}, generated="test")
+        page = build_report(model, dataclasses.replace(res, lower_bound=lower), generated="test")
         section = page[page.index("7. Lower bound"):page.index("8. Cautions")]
         assert says in section and 'id="lower-bound"' not in section and "<img" not in section
 
 
-def test_cli_report_writes_page_and_convergence_table(tmp_path, capsys):
+def test_cli_report_writes_page_and_refinement_table(tmp_path, capsys):
     model_path = tmp_path / "l.toml"
-    model_path.write_text(L_SLAB, encoding="utf-8")
+    model_path.write_text(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), encoding="utf-8")   # refined
     out = tmp_path / "out"
-    assert main(["report", str(model_path), "-o", str(out)]) == 0
+    # A tight gap, so that the mesh is refined at least once (the first step alone does not reach it).
+    assert main(["report", str(model_path), "-o", str(out), "--gap", "0.01", "--time-limit", "15"]) == 0
     page = out / "report.html"
     assert page.is_file()
     assert str(page) in capsys.readouterr().out
     v = _Values()
     v.feed(page.read_text(encoding="utf-8"))
-    conv = _rows(v, "convergence")                  # coarse and normal, one load factor each
-    assert len(conv) == 2
-    assert all(np.isfinite(r[0]) and r[0] > 0 for r in conv)
-    # each resolution's lower bound sits beside its load factor, and below it
-    assert all(0 < r[1] <= r[0] for r in conv)
+    steps = _rows(v, "refinement")                  # one row per mesh: upper and lower bound
+    assert len(steps) >= 2
+    assert all(np.isfinite(r[0]) and r[0] > 0 for r in steps)
+    # each step's lower bound sits beside its upper bound, and below it
+    assert all(0 < r[1] <= r[0] for r in steps)
+    assert "Both bounds against nodes" in page.read_text(encoding="utf-8")
     assert list(out.iterdir()) == [page]            # no temporary files left
 
 
@@ -231,7 +233,7 @@ def test_cli_report_unwritable_folder_exit_2(tmp_path, capsys):
     model_path.write_text(L_SLAB, encoding="utf-8")
     blocker = tmp_path / "taken"
     blocker.write_text("a file where the folder should go", encoding="utf-8")
-    assert main(["report", str(model_path), "-o", str(blocker), "--resolution", "coarse"]) == 2
+    assert main(["report", str(model_path), "-o", str(blocker), "--nodes", "150"]) == 2
     assert "output folder" in capsys.readouterr().err
     assert blocker.read_text(encoding="utf-8") == "a file where the folder should go"
 
@@ -272,13 +274,15 @@ def test_report_renders_in_headless_chromium(coarse_report, tmp_path):
         assert (np.abs(rgb.astype(int) - colour).sum(axis=2) < 40).sum() > 200
 
 
-def test_the_record_reports_in_full_the_solve_that_governs(monkeypatch):
-    """Every solve is an upper bound (upper-bound theorem), so the lowest load factor governs:
-    the record's headline, work equation and drawings come from that solve, whichever
-    resolution was asked for."""
-    from hingeline.outputs import record
+def test_the_record_reports_the_best_bound_of_each_kind():
+    """Every step's upper bound is an upper bound and every proven lower bound a lower bound,
+    so the record's headline is the lowest upper bound and its lower bound the highest one."""
+    from hingeline import solve
 
-    model = model_from_toml(L_SLAB, source="L-slab")
-    results, primary = record.solve_resolutions(model, resolutions=("normal",), primary="coarse")
-    assert set(results) == {"coarse", "normal"}
-    assert results[primary].load_factor == min(r.load_factor for r in results.values())
+    model = model_from_toml(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), source="L-slab")
+    res = solve(model, gap=0.005, time_limit=5)
+    steps = res.refinement
+    assert res.load_factor == min(st.load_factor for st in steps)
+    assert res.lower_bound.load_factor == max(st.lower_bound for st in steps if st.lower_bound is not None)
+    page = build_report(model, res, generated="test")
+    assert "(upper reported)" in page and "(lower reported)" in page

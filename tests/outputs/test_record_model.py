@@ -17,7 +17,8 @@ import numpy as np
 import pytest
 
 from hingeline.model import model_from_toml, read_model
-from hingeline.outputs.record import build_report, solve_resolutions
+from hingeline.outputs.record import build_report
+from hingeline.solve import solve_cases
 from hingeline.outputs.record_model import method_items, model_tables
 from hingeline.outputs.record_tables import lower_bound_table, status_words
 
@@ -81,7 +82,7 @@ name = "no plant"
 loads = ["imposed", "partition", "self weight"]
 
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 SQUARE = """\
@@ -95,7 +96,7 @@ sagging = 10.0
 type = "area"
 value = 6.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -114,15 +115,15 @@ def full_file(tmp_path_factory):
 @pytest.fixture(scope="module")
 def full_page(full_file):
     model = read_model(full_file)
-    results, primary = solve_resolutions(model, ("coarse",), primary="coarse")
-    return model, results[primary], build_report(model, results, primary, generated="2026-01-01 00:00 UTC")
+    result = solve_cases(model, nodes=150)
+    return model, result, build_report(model, result, generated="2026-01-01 00:00 UTC")
 
 
 @pytest.fixture(scope="module")
 def one_way():
     model = model_from_toml(ONE_WAY)
-    results, primary = solve_resolutions(model, ("coarse",), primary="coarse")
-    return model, results[primary], build_report(model, results, primary)
+    result = solve_cases(model, nodes=150)
+    return model, result, build_report(model, result)
 
 
 def _text(fragment: str) -> str:

@@ -46,7 +46,7 @@ def pyramid_result(continuous_bottom: bool = False, title: str = "hand-built squ
         slab=Slab(outline=corners, edges=edges, openings=(np.array([[2.8, 1.6], [3.4, 1.6], [3.4, 2.2], [2.8, 2.2]]),)),
         capacity=Capacity(sagging=(M, M), hogging=(MH, MH)),
         loads=(AreaLoad(value=Q, name="imposed"),),
-        analysis=Analysis(resolution="coarse"),
+        analysis=Analysis(nodes=150),
         title=title,
     )
     # normalise: factored work q * (a^2 / 3) * w_c = 1 kNm

@@ -62,7 +62,7 @@ at = [1.5, 4.0]
 size = [0.3, 0.3]
 connection = "monolithic"
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 

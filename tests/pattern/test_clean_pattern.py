@@ -78,7 +78,7 @@ type = "point"
 value = 1.0
 at = [0.0, 0.0]
 [analysis]
-resolution = "coarse"
+nodes = 150
 """.replace("'", '"'))
 
 

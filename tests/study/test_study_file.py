@@ -155,7 +155,7 @@ def test_toml_round_trip_and_fingerprint():
     data = tomllib.loads(STRIP)
     data["title"] = 'quotes " and \\ and ünïcode'
     assert tomllib.loads(to_toml(data, "a header\nof two lines")) == data
-    opts = {"resolution": None, "mesh_size": 0.4, "lower_bound": True}
+    opts = {"nodes": None, "mesh_size": 0.4, "gap": None, "time_limit": None, "lower_bound": True}
     same = tomllib.loads(to_toml(data))
     assert fingerprint(data, opts) == fingerprint(same, dict(reversed(list(opts.items()))))
     assert fingerprint(data, opts) != fingerprint(data, {**opts, "lower_bound": False})

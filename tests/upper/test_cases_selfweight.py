@@ -36,7 +36,7 @@ loads = ["self weight", "imposed left", "imposed right"]
 name = "left bay only"
 loads = ["self weight", "imposed left"]
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -71,7 +71,7 @@ def test_cases_are_solved_and_the_lowest_governs():
     ('[[case]]\nname = "x"\nloads = ["self weight"]', "no scaled load"),
 ])
 def test_bad_cases(case, item):
-    text = MODEL.split("[[case]]")[0] + case + "\n[analysis]\nresolution = \"coarse\"\n"
+    text = MODEL.split("[[case]]")[0] + case + "\n[analysis]\nnodes = 150\n"
     with pytest.raises(hingeline.ModelError, match=item):
         hingeline.model_from_toml(text)
 
@@ -87,5 +87,5 @@ def test_cli_prints_the_case_table(tmp_path, capsys):
 def test_report_names_every_case(tmp_path):
     from hingeline.outputs.record import write_report
 
-    page = write_report(hingeline.model_from_toml(MODEL), tmp_path, resolutions=["coarse"]).read_text()
+    page = write_report(hingeline.model_from_toml(MODEL), tmp_path, nodes=150).read_text()
     assert "both bays" in page and "left bay only" in page

@@ -29,7 +29,7 @@ hogging = 10.0
 type = "area"
 value = 1.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -67,7 +67,7 @@ def test_square_on_four_pinned_corner_columns_matches_point_supports():
     assert exact * (1 - 1e-6) <= r.load_factor <= exact * 1.01
     lb = r.lower_bound.load_factor
     assert lb is not None and lb <= exact * (1 + 1e-6)
-    assert lb >= 0.99 * exact                                     # measured 1 - 6e-5 at "coarse"
+    assert lb >= 0.99 * exact                                     # measured 1 - 6e-5 at 150 nodes
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
     # The fold: sagging lines along a centre line do (nearly) all the work. By the square's
     # symmetry the folds along x = L/2 and y = L/2 are equally good, and so is any mix of the
@@ -103,7 +103,7 @@ hogging = 10.0
 type = "area"
 value = 1.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 CENTRE_COLUMN = '[[column]]\nname = "C1"\nat = [0.0, 0.0]\nsize = [0.3, 0.3]\nconnection = "pinned"'
 
@@ -146,7 +146,7 @@ def test_interior_pinned_column_fans_through_its_bearing():
     plateau = plateau_mechanism(16, 3.0)
     assert lb is not None and 0 < lb <= min(plateau, r.load_factor) * (1 + 1e-6)
     # The LP's fan has finitely many lines and a finite radius: measured +1.1 % above the
-    # plateau mechanism at "coarse", the lower bound 2.8 % below it (mesh.py's ring of nodes
+    # plateau mechanism at 150 nodes, the lower bound 2.8 % below it (mesh.py's ring of nodes
     # round the bearing; without it +8.9 % and -16.8 %).
     assert r.load_factor <= 1.03 * plateau
     assert lb >= 0.95 * plateau
@@ -166,8 +166,8 @@ def test_field_check_needs_the_bearing_reactions():
     # The lower bound's field carries the load into the bearing nodes as concentrated reactions.
     # Re-checked on the same slab without its columns, those nodes must balance: they do not.
     model = hingeline.model_from_toml(SQUARE.format(columns=columns([(0, 0), (6, 0), (6, 6), (0, 6)])))
-    domain = build_domain(model, margin=mesh_size_for(model, "coarse"))
-    mesh = mesh_domain(domain, model, mesh_size_for(model, "coarse"))
+    domain = build_domain(model, margin=mesh_size_for(model, 150))
+    mesh = mesh_domain(domain, model, mesh_size_for(model, 150))
     sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles)
     ok = check_field(model, domain, sol.field, sol.load_factor)
     # Solved here in the model's units (solve() works dimensionless): the yield ratio may pass 1

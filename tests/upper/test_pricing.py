@@ -97,7 +97,7 @@ def test_small_blocks_hold_fewer_lines_at_once():
     from hingeline.geometry.domain import build_domain
     from hingeline.geometry.mesh import mesh_domain, mesh_size_for
 
-    size = mesh_size_for(m, "coarse")
+    size = mesh_size_for(m, 150)
     domain = build_domain(m, margin=size)
     nodes = mesh_domain(domain, m, size).nodes
     source = pricing.candidate_source(nodes, domain, m, block_lines=997)

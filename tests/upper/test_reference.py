@@ -3,8 +3,8 @@
 Each case is a unit slab (lengths m, q = 1 kPa), so the load factor is the
 coefficient of m / L^2. Yield-line analysis gives upper bounds: every result
 must lie at or above the exact value (0.1 % allowed for round-off) and
-within a resolution-dependent margin above it. benchmarks/reference.py measures
-the same cases at finer resolutions.
+within a mesh-dependent margin above it. benchmarks/reference.py measures
+the same cases on finer meshes.
 """
 import math
 
@@ -29,8 +29,8 @@ def test_simply_supported_square():
 
 def test_clamped_square_normal():
     # 42.851 m/L^2 for m' = m: Fox, Phil. Trans. R. Soc. A 277 (1974), exact for the square
-    # yield criterion. Target at "normal": within 1.5 %.
-    r = hingeline.solve(model(SQUARE, "continuous", resolution="normal"))
+    # yield criterion. Target at 450 nodes: within 1.5 %.
+    r = hingeline.solve(model(SQUARE, "continuous", nodes=450))
     assert_upper_bound(r.load_factor, 42.851, 0.015)
 
 
@@ -103,7 +103,7 @@ hogging = 1.0
 type = "area"
 value = 1.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 # Diagonal mechanism of the simply supported unit square with a central c x c opening

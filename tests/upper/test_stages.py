@@ -43,7 +43,7 @@ type = "area"
 value = 5.0
 {extra}
 [analysis]
-resolution = "coarse"
+nodes = 150
 """
 
 
@@ -98,7 +98,7 @@ def test_too_fine_mesh_is_refused_before_meshing(monkeypatch):
         raise AssertionError("the mesher was called")
 
     monkeypatch.setattr(solve_module, "mesh_domain", no_mesher)
-    big = BASE.format(edges='"simple"', hogging=10.0, extra="").replace('resolution = "coarse"', "mesh_size = 1e-4")
+    big = BASE.format(edges='"simple"', hogging=10.0, extra="").replace('nodes = 150', "mesh_size = 1e-4")
     with pytest.raises(hingeline.ModelError, match=r"analysis\.mesh_size = 0\.0001 m .* nodes"):
         hingeline.solve(hingeline.model_from_toml(big))
     with pytest.raises(hingeline.ModelError, match=r"^mesh_size = 0\.0001 m"):
@@ -121,7 +121,7 @@ def test_lines_made_in_blocks_are_the_lines_made_at_once():
              '[[load]]\ntype = "point"\nvalue = 3.0\nat = [2.5, 2.2]')
     m = hingeline.model_from_toml(BASE.format(edges='["simple", "simple", "free", "continuous"]',
                                               hogging=8.0, extra=extra))
-    size = mesh_size_for(m, "coarse")
+    size = mesh_size_for(m, 150)
     domain = build_domain(m, margin=size)
     nodes = mesh_domain(domain, m, size).nodes
     whole = build_candidates(nodes, domain, m)

@@ -15,7 +15,7 @@ hogging = {m}
 type = "area"
 value = 10.0
 [analysis]
-resolution = "coarse"
+nodes = 150
 {zones}
 """
 OPENING = "[[slab.opening]]\npolygon = [[1.2, 0.7], [1.8, 0.7], [1.8, 1.3], [1.2, 1.3]]"

@@ -32,8 +32,9 @@ def run(args: argparse.Namespace) -> int:
     if not args.no_compare:
         from ..solve import solve_cases
 
-        # Only the mechanism is compared, on the coarse mesh, over the same cases.
-        solved = solve_cases(model, resolution="coarse", lower_bound=False).load_factor
+        # Only the mechanism is compared (the mesh as the model asks, without the lower bound), over
+        # the same cases.
+        solved = solve_cases(model, lower_bound=False).load_factor
     if case is not None:
         print(f"load cases: the pattern is checked under each, the lowest governs (case '{case}')")
         for name, c in checks:

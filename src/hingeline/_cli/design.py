@@ -5,8 +5,8 @@ import argparse
 import math
 from pathlib import Path
 
-from ..model import RESOLUTIONS, read_model
-from .solve import positive_number
+from ..model import read_model
+from .solve import add_mesh_args, mesh_kwargs, positive_number
 
 HELP = ("find the factor by which all moment capacities must be scaled for the load factor to "
         "reach the target (default 1); with a bar schedule, propose bar spacings per layer")
@@ -18,22 +18,21 @@ def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--scale-bars", choices=("all", "bottom", "top"), default="all",
                         help="capacities the scale applies to: all (default), the bottom bars (sagging) only "
                              "or the top bars (hogging) only; zones alike")
-    parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
-                        help="mesh resolution; overrides [analysis] resolution of the model file")
+    add_mesh_args(parser)
 
 
 def run(args: argparse.Namespace) -> int:
     model = read_model(args.model)
     from ..design import required_scale  # imported late: reading the model needs no solver
 
-    d = required_scale(model, target=args.target, resolution=args.resolution, scaled=args.scale_bars)
+    d = required_scale(model, target=args.target, scaled=args.scale_bars, **mesh_kwargs(args))
     if d.scale > 1:
         verdict = f"NOT adequate: short by {(d.scale - 1) * 100:.1f} % at least"
     elif d.safe_scale is not None and d.safe_scale <= 1:
         verdict = f"adequate, proven by the lower bound: spare {(1 - d.safe_scale) * 100:.1f} % at least"
     elif d.safe_scale is not None:
-        verdict = ("not decided at this resolution: adequate against the mechanism found, not proven by "
-                   "the lower bound; solve at a finer resolution")
+        verdict = ("not decided on this mesh: adequate against the mechanism found, not proven by "
+                   "the lower bound; ask for a smaller --gap")
     else:
         verdict = f"adequate against the mechanism found (spare {(1 - d.scale) * 100:.1f} %), not proven"
     print(f"{model.title or args.model}")
@@ -73,6 +72,6 @@ def run(args: argparse.Namespace) -> int:
     for w in (*d.result.warnings,):
         print(f"  warning     {w}")
     print("  caution     the mechanism's scale is from an upper-bound method: the true scale needed is at "
-          "or ABOVE it (a finer resolution usually raises it); shear, punching, deflection, ductility and detailing not "
+          "or ABOVE it (a finer mesh usually raises it); shear, punching, deflection, ductility and detailing not "
           "checked; have a qualified engineer review it under local codes")
     return 0

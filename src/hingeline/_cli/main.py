@@ -82,6 +82,12 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _dispatch(argv: list[str] | None) -> int:
+    words = sys.argv[1:] if argv is None else argv
+    if any(w == "--resolution" or w.startswith("--resolution=") for w in words):
+        from ..model import resolution_replacement
+
+        print(f"error: --resolution is no longer an option: {resolution_replacement('--nodes')}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     parser = build_parser()
     try:
         args = parser.parse_args(argv)

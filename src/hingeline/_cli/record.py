@@ -8,20 +8,19 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..model import RESOLUTIONS, read_model
+from ..model import read_model
 from .report import OutputError, check_outdir
+from .solve import add_mesh_args, mesh_kwargs
 
-HELP = ("solve a model file at several resolutions and write the calculation record "
-        "OUTDIR/report.html (one self-contained page)")
+HELP = ("solve a model file, refining the mesh as for solve, and write the calculation record "
+        "OUTDIR/report.html (one self-contained page, with the refinement history)")
 
 
 def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("model", type=Path, metavar="MODEL.toml", help="model file (see docs/model-format.md)")
     parser.add_argument("-o", "--outdir", type=Path, required=True, metavar="OUTDIR",
                         help="folder for report.html (created if missing)")
-    parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
-                        help="resolution solved in addition to coarse and normal (default: the model's); "
-                             "the record reports in full the solve with the lowest load factor")
+    add_mesh_args(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -30,7 +29,7 @@ def run(args: argparse.Namespace) -> int:
     from ..outputs.record import write_report  # imported late: reading the model needs no solver
 
     try:
-        path = write_report(model, args.outdir, primary=args.resolution)
+        path = write_report(model, args.outdir, **mesh_kwargs(args))
     except OSError as exc:
         reason = exc.strerror or str(exc)
         where = exc.filename or args.outdir

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from ..errors import HingelineError
 from ..outputs.result_json import certificate_agrees
-from ..result import Result, load_factor_text
+from ..result import STOP_REASONS, Result, load_factor_text
 
 
 class OutputError(HingelineError):
@@ -73,7 +73,20 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
         from ..outputs.record_tables import status_words
 
         p(f"  cone solver {status_words(lb.status, lb.load_factor is not None)}")
-    p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab), element size {s.mesh_size:.3g} m")
+    steps = result.refinement
+    if len(steps) > 1 or result.target_gap is not None:
+        bracket = (f"bracket {load_factor_text(lb.load_factor)} .. {load_factor_text(result.load_factor)}"
+                   if lb is not None and lb.load_factor is not None else f"upper bound {load_factor_text(result.load_factor)}")
+        target = "" if result.target_gap is None else f", target gap {100 * result.target_gap:.2f} %"
+        p(f"  refinement  {len(steps)} mesh{'es' if len(steps) != 1 else ''}, {bracket}{target}; "
+          f"stopped: {STOP_REASONS.get(result.stop, result.stop)}")
+        for k, st in enumerate(steps, 1):
+            low = "-" if st.lower_bound is None else load_factor_text(st.lower_bound)
+            gap = "-" if st.gap is None else f"{100 * st.gap:.2f} %"
+            p(f"    step {k}: {st.nodes:6d} nodes  upper {load_factor_text(st.load_factor)}  lower {low}  "
+              f"gap {gap}  {st.seconds:.1f} s")
+    p(f"  mesh        {s.nodes} nodes ({s.slab_nodes} on the slab) for the load factor, first element size "
+      f"{s.mesh_size:.3g} m")
     p(f"  lines       {s.candidate_lines} candidates, {s.lp_lines} in the final LP; "
       f"{len(yl)} active ({n_sag} sagging, {len(yl) - n_sag} hogging)")
     p(f"  LP          {s.rounds} round{'s' if s.rounds != 1 else ''}, {s.seconds:.2f} s")

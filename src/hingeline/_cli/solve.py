@@ -6,7 +6,7 @@ from pathlib import Path
 
 from ..errors import HeldLoadCollapse
 from ..geometry.mesh import check_node_budget
-from ..model import RESOLUTIONS, read_model
+from ..model import read_model
 from ..result import Result
 from . import report
 
@@ -33,14 +33,57 @@ def positive_number(option: str, unit: str = ""):
     return parse
 
 
+def whole_number(option: str, least: int):
+    """argparse type: a whole number >= least for `option`."""
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{option} must be a whole number, got '{text}'") from None
+        if value < least:
+            raise argparse.ArgumentTypeError(f"{option} must be at least {least}, got '{text}'")
+        return value
+    return parse
+
+
+def gap_fraction(text: str) -> float:
+    """argparse type of --gap: a number between 0 and 1."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--gap must be a number, got '{text}'") from None
+    if not 0 < value < 1:
+        raise argparse.ArgumentTypeError(f"--gap is (upper - lower) / upper, a number between 0 and 1 "
+                                         f"(e.g. 0.02), got '{text}'")
+    return value
+
+
+def add_mesh_args(parser: argparse.ArgumentParser, what: str = "the model") -> None:
+    """The options that choose the mesh: --nodes or --mesh-size (one uniform mesh), else
+    adaptive refinement to --gap within --time-limit."""
+    group = parser.add_mutually_exclusive_group()
+    group.add_argument("--nodes", type=whole_number("--nodes", 20), default=None, metavar="N",
+                       help=f"one uniform mesh of about N nodes on the slab for {what}, no refinement; "
+                            "overrides [analysis] nodes and mesh_size")
+    group.add_argument("--mesh-size", type=positive_number("--mesh-size", "m"), default=None, metavar="M",
+                       help="one uniform mesh of element size M in m, no refinement")
+    parser.add_argument("--gap", type=gap_fraction, default=None, metavar="G",
+                        help="refine the mesh until (upper - lower) / upper <= G (default: [analysis] target_gap, "
+                             "0.03)")
+    parser.add_argument("--time-limit", type=positive_number("--time-limit", "s"), default=None, metavar="S",
+                        help="stop refining after S seconds (default: [analysis] time_limit, 120)")
+
+
+def mesh_kwargs(args: argparse.Namespace) -> dict:
+    """The mesh options of `args` as keyword arguments of hingeline.solve."""
+    return {"nodes": args.nodes, "mesh_size": args.mesh_size, "gap": args.gap, "time_limit": args.time_limit}
+
+
 def add_args(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("model", type=Path, metavar="MODEL.toml", help="model file (see docs/model-format.md)")
     parser.add_argument("-o", "--outdir", type=Path, required=True, metavar="OUTDIR",
                         help="folder for result.json and the plots (created if missing)")
-    parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
-                        help="mesh resolution; overrides [analysis] resolution of the model file")
-    parser.add_argument("--mesh-size", type=positive_number("--mesh-size", "m"), default=None, metavar="M",
-                        help="explicit element size in m; overrides resolution")
+    add_mesh_args(parser)
     parser.add_argument("--no-lower-bound", action="store_true",
                         help="skip the lower bound (statically admissible moment field); saves its solve time")
 
@@ -67,8 +110,7 @@ def run(args: argparse.Namespace) -> int:
     from ..solve import solve_cases  # imported late: reading the model needs no solver
 
     try:
-        result = solve_cases(model, resolution=args.resolution, mesh_size=args.mesh_size,
-                             lower_bound=not args.no_lower_bound)
+        result = solve_cases(model, lower_bound=not args.no_lower_bound, **mesh_kwargs(args))
     except HeldLoadCollapse as err:
         # An engineer assessing an existing slab needs to see how it fails: draw and store it.
         if err.result is not None:

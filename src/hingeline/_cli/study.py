@@ -7,9 +7,8 @@ import math
 import sys
 from pathlib import Path
 
-from ..model import RESOLUTIONS
 from . import report
-from .solve import positive_number
+from .solve import add_mesh_args
 
 HELP = ("solve every variant of a study file (an opening moved over a grid, values swept); write "
         "OUTDIR/study.csv, map.png, study.html and each variant under OUTDIR/variants/; resumes")
@@ -31,10 +30,7 @@ def add_args(parser: argparse.ArgumentParser) -> None:
                         help="folder for the outputs (created if missing; a run there before is resumed)")
     parser.add_argument("--jobs", type=_jobs, default=None, metavar="N",
                         help="local worker processes (default: all cores; 1 solves in this process)")
-    parser.add_argument("--resolution", choices=RESOLUTIONS, default=None,
-                        help="mesh resolution of every variant; overrides [analysis] resolution of the model")
-    parser.add_argument("--mesh-size", type=positive_number("--mesh-size", "m"), default=None, metavar="M",
-                        help="explicit element size in m; overrides resolution")
+    add_mesh_args(parser, "every variant")
     parser.add_argument("--no-lower-bound", action="store_true", help="solve the upper bound only")
     parser.add_argument("--drawings", action="store_true",
                         help="also draw each variant (pattern.png, deflection.png) in its folder")
@@ -82,7 +78,7 @@ def run(args: argparse.Namespace) -> int:
     # Everything that can be refused is checked before anything is solved or written.
     study = read_study(args.study)
     plan = build_variants(study)
-    options = SolveOptions(resolution=args.resolution, mesh_size=args.mesh_size,
+    options = SolveOptions(nodes=args.nodes, mesh_size=args.mesh_size, gap=args.gap, time_limit=args.time_limit,
                            lower_bound=not args.no_lower_bound, drawings=args.drawings)
     report.check_outdir(args.outdir)
     client = connect(args.scheduler) if args.scheduler else None

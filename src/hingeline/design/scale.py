@@ -9,7 +9,7 @@ factored and held loads), so
 
 where lambda_all is the ordinary load factor of the slab under the single load
 set (target x scaled loads + held loads), all of it scaled. One solve gives s. Since lambda_all is an upper bound, s is a lower bound on the
-scale truly needed: a finer resolution usually raises it.
+scale truly needed: a finer mesh usually raises it.
 
 The same solve gives a lower bound lambda_lower <= lambda_all (lower/program.py); by the
 lower-bound theorem, capacities scaled by s_safe = 1 / lambda_lower are proven enough
@@ -84,18 +84,22 @@ class DesignResult:
         return self.scale if self.safe_scale is None else self.safe_scale
 
 
-def required_scale(model: Model, target: float = 1.0, resolution: str | None = None,
-                   scaled: str = "all") -> DesignResult:
+def required_scale(model: Model, target: float = 1.0, nodes: int | None = None,
+                   scaled: str = "all", mesh_size: float | None = None, gap: float | None = None,
+                   time_limit: float | None = None) -> DesignResult:
     """Capacity scale factor for load factor `target` (> 0), case by case when the model has
     load cases; `scaled`: one of SCALED, the capacities the factor applies to (those of the
-    zones included). See the module docstring."""
+    zones included). nodes, mesh_size, gap, time_limit: the mesh, as for hingeline.solve (by
+    default refined until the bounds are within the model's target gap). See the module
+    docstring."""
     if target <= 0:
         raise ValueError("target load factor must be > 0")
     if scaled not in SCALED:
         raise ValueError(f"scaled must be one of {SCALED}, not {scaled!r}")
+    mesh = {"nodes": nodes, "mesh_size": mesh_size, "gap": gap, "time_limit": time_limit}
     if not model.cases:
-        return _required_scale(model, model, target, resolution, scaled)
-    each = [(case.name, _required_scale(model_for_case(model, case), model, target, resolution, scaled))
+        return _required_scale(model, model, target, mesh, scaled)
+    each = [(case.name, _required_scale(model_for_case(model, case), model, target, mesh, scaled))
             for case in model.cases]
     name, governing = max(each, key=lambda nd: nd[1].scale)
     safes = [d.safe_scale for _, d in each]
@@ -117,29 +121,28 @@ def with_scale(model: Model, s: float, scaled: str) -> Model:
     return replace(model, capacity=cap, zones=zones)
 
 
-def _required_scale(model: Model, whole: Model, target: float, resolution: str | None,
-                    scaled: str) -> DesignResult:
+def _required_scale(model: Model, whole: Model, target: float, mesh: dict, scaled: str) -> DesignResult:
     """required_scale of `model` (no cases); bar proposals from `whole`'s bar schedule."""
     loads = tuple(replace(ld, value=ld.value * target if ld.factored else ld.value, factored=True)
                   for ld in model.loads)
     at_target = replace(model, loads=loads)
     if scaled == "all":
-        result = solve(at_target, resolution=resolution)
+        result = solve(at_target, **mesh)
         scale = 1.0 / result.load_factor
         lower = result.lower_bound.load_factor if result.lower_bound is not None else None
         safe = None if not lower else 1.0 / lower
     else:
-        scale, result, safe = _partial_scale(at_target, resolution, scaled)
+        scale, result, safe = _partial_scale(at_target, mesh, scaled)
     return _with_proposals(whole, scale, safe, DesignResult(scale, target, result), scaled)
 
 
-def _partial_scale(model: Model, resolution: str | None, scaled: str, rounds: int = 12, tries: int = 4):
+def _partial_scale(model: Model, mesh: dict, scaled: str, rounds: int = 12, tries: int = 4):
     """(scale, result at that scale, proven scale or None) for `model` whose loads all count
     at unit load factor, scaling only the `scaled` capacities (module docstring)."""
     fixed = with_scale(model, 0.0, "top" if scaled == "bottom" else "bottom")   # the scaled part alone
     s = 1.0
     for _ in range(rounds):
-        result = solve(with_scale(model, s, scaled), resolution=resolution, lower_bound=False)
+        result = solve(with_scale(model, s, scaled), lower_bound=False, **mesh)
         part = internal_work(with_scale(fixed, s, scaled), result.mechanism)   # at unit load work
         rest = result.work.internal - part
         if abs(result.load_factor - 1.0) <= 1e-9:
@@ -154,7 +157,7 @@ def _partial_scale(model: Model, resolution: str | None, scaled: str, rounds: in
     slope = part / s                      # d lambda / d s of the governing mechanism
     safe, trial = None, s
     for _ in range(tries):
-        lower = solve(with_scale(model, trial, scaled), resolution=resolution).lower_bound
+        lower = solve(with_scale(model, trial, scaled), **mesh).lower_bound
         value = None if lower is None else lower.load_factor
         if value is not None and value >= 1.0:
             safe = trial

@@ -21,8 +21,10 @@ from ..errors import ModelError
 from ..model import Model
 from .domain import Domain, merge_points, segment_distance
 
-# Target number of nodes on the slab for each resolution word.
-TARGET_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
+# Nodes on the slab of one uniform mesh when analysis.nodes is given (and of the first mesh
+# of adaptive refinement, START_NODES): the three sizes the tests and benchmarks use.
+DEFAULT_NODES = 450
+START_NODES = 150
 # Nodes on the ring round each bearing point of a pinned column (see _bearing_rings).
 BEARING_RING = 12
 # Most nodes a mesh may have. Candidate lines grow with the square of the nodes: beyond the
@@ -42,10 +44,45 @@ class Mesh:
     edges: np.ndarray
 
 
-def mesh_size_for(model: Model, resolution: str) -> float:
-    """Element size (m) that puts about TARGET_NODES[resolution] nodes on the slab."""
+def mesh_size_for(model: Model, nodes: int) -> float:
+    """Element size (m) that puts about `nodes` nodes on the slab."""
     area = shapely.Polygon(model.slab.outline).area
-    return float(np.sqrt(2.0 * area / (np.sqrt(3.0) * TARGET_NODES[resolution])))
+    return float(np.sqrt(2.0 * area / (np.sqrt(3.0) * nodes)))
+
+
+@dataclass(frozen=True, eq=False)
+class SizeField:
+    """A graded element size for adaptive refinement: at x the size is
+    min(base, min_i (sizes_i + GRADE |x - points_i|)), m. points: (k, 2) m; sizes: (k,) m."""
+
+    base: float
+    points: np.ndarray
+    sizes: np.ndarray
+
+    def at(self, xy: np.ndarray) -> np.ndarray:
+        """Element size (m) at the points xy (p, 2)."""
+        xy = np.atleast_2d(np.asarray(xy, float))
+        if not len(self.points):
+            return np.full(len(xy), self.base)
+        from scipy.spatial import cKDTree
+
+        k = min(16, len(self.points))
+        d, i = cKDTree(self.points).query(xy, k=k)
+        d, i = d.reshape(len(xy), k), i.reshape(len(xy), k)
+        return np.minimum(self.base, (self.sizes[i] + GRADE * d).min(axis=1))
+
+    def refined(self, points: np.ndarray, factor: float) -> SizeField:
+        """This field with `points` (p, 2) m given `factor` times the size found there now."""
+        points = np.asarray(points, float).reshape(-1, 2)
+        if not len(points):
+            return self
+        sizes = factor * self.at(points)
+        return SizeField(self.base, np.concatenate([self.points, points]), np.concatenate([self.sizes, sizes]))
+
+
+# Growth of the element size away from a refined point, m per m: 0.5 keeps neighbouring
+# triangles within a factor of about 1.5 of each other.
+GRADE = 0.5
 
 
 def estimate_nodes(model: Model, size: float) -> float:
@@ -70,7 +107,7 @@ def check_node_budget(model: Model, size: float, option: str) -> None:
         raise ModelError(
             f"{option} = {size:.4g} m would mesh the slab with about {estimate:,.0f} nodes, more than "
             f"the {MAX_NODES:,} that hingeline handles; use a larger {option} (at least "
-            f"{size * np.sqrt(estimate / MAX_NODES):.3g} m) or a resolution")
+            f"{size * np.sqrt(estimate / MAX_NODES):.3g} m) or fewer nodes")
 
 
 def _linework(domain: Domain, model: Model):
@@ -159,8 +196,9 @@ def _bearing_rings(domain: Domain, pts: np.ndarray, facets: np.ndarray, size: fl
     return ring[ok]
 
 
-def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
-    """Quality triangulation of D with elements of about `size` (m)."""
+def mesh_domain(domain: Domain, model: Model, size: float, field: SizeField | None = None) -> Mesh:
+    """Quality triangulation of D with elements of about `size` (m), or, given `field`,
+    of about field.at(x) (m) near each point x (adaptive refinement)."""
     pts, facets = _linework(domain, model)
     pts = np.concatenate([pts, _bearing_rings(domain, pts, facets, size)])
     info = triangle.MeshInfo()
@@ -174,9 +212,25 @@ def mesh_domain(domain: Domain, model: Model, size: float) -> Mesh:
     # Triangle's quality meshes come out finer than the area bound; the factor was set so that
     # the unit square gets about TARGET_NODES nodes (measured: about 150 / 451 / 1068).
     max_area = 0.5 * np.sqrt(3.0) / 4.0 * size**2 * 3.4
-    mesh = triangle.build(info, max_volume=max_area, min_angle=28.0, generate_faces=False)
+    refine = None if field is None or not len(field.points) else _area_rule(field)
+    mesh = triangle.build(info, max_volume=max_area, min_angle=28.0, generate_faces=False, refinement_func=refine)
     nodes = np.array(mesh.points, float)
     tris = np.array(mesh.elements, np.int64)
     e = np.concatenate([tris[:, [0, 1]], tris[:, [1, 2]], tris[:, [2, 0]]])
     edges = np.unique(np.sort(e, axis=1), axis=0)
     return Mesh(nodes, tris, edges)
+
+
+def _area_rule(field: SizeField):
+    """Triangle's refinement test for `field`: a triangle is split while its area exceeds that
+    of the uniform rule (mesh_domain) for the size at its centroid."""
+    from scipy.spatial import cKDTree
+
+    tree, k = cKDTree(field.points), min(16, len(field.points))
+
+    def too_big(vertices, area):
+        c = np.mean(np.asarray(vertices, float), axis=0)
+        d, i = tree.query(c, k=k)
+        h = min(field.base, float(np.min(field.sizes[i] + GRADE * d)))
+        return area > 0.5 * np.sqrt(3.0) / 4.0 * h**2 * 3.4
+    return too_big

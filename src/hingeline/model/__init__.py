@@ -8,10 +8,10 @@ Modules: `types` (the dataclasses), `read` (entry points and the order of the se
 (shared checks and message wording), `eurocode` (bar schedules), `criterion` (Johansen).
 May import: numpy, shapely, tomllib, `hingeline.errors`. Nothing downstream.
 """
-from .read import model_for_case, model_from_toml, parse_model, read_model
+from .read import model_for_case, model_from_toml, parse_model, read_model, resolution_replacement
 from .types import (
                     EDGE_KINDS,
-                    RESOLUTIONS,
+                    OLD_RESOLUTION_NODES,
                     Analysis,
                     AreaLoad,
                     Capacity,
@@ -25,7 +25,7 @@ from .types import (
 )
 
 __all__ = [
-    "EDGE_KINDS", "RESOLUTIONS", "Analysis", "AreaLoad", "Capacity", "LineLoad", "LoadCase", "Model",
+    "EDGE_KINDS", "OLD_RESOLUTION_NODES", "Analysis", "AreaLoad", "Capacity", "LineLoad", "LoadCase", "Model",
     "PointLoad", "Slab", "Support", "Zone", "model_for_case", "model_from_toml", "parse_model",
-    "read_model",
+    "read_model", "resolution_replacement",
 ]

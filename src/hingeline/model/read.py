@@ -24,13 +24,13 @@ from .capacity import parse_capacity
 from .loads import UNIT_WEIGHT, parse_cases, parse_loads
 from .slab import parse_slab
 from .supports import parse_supports, parse_zones
-from .types import RESOLUTIONS, Analysis, LoadCase, Model, Project, Source
-from .values import Invalid, check_keys, fmt, number, required_table, show, type_name, words
+from .types import OLD_RESOLUTION_NODES, Analysis, LoadCase, Model, Project, Source
+from .values import Invalid, check_keys, fmt, number, required_table, show, type_name
 
 # Allowed keys of each table. To support a new section, add its key here, write its parser
 # in a module of its own, and call the parser from _parse.
 TOP_KEYS = ("title", "slab", "capacity", "load", "analysis", "zone", "column", "wall", "case", "project")
-ANALYSIS_KEYS = ("resolution", "mesh_size")
+ANALYSIS_KEYS = ("nodes", "mesh_size", "target_gap", "time_limit")
 PROJECT_KEYS = ("job", "reference", "revision", "prepared_by", "checked_by")
 
 
@@ -148,12 +148,16 @@ def _parse_project(t: Any) -> Project:
 
 
 def _parse_analysis(t: dict) -> Analysis:
+    if "resolution" in t:
+        raise Invalid(f"analysis.resolution is no longer read: {resolution_replacement('analysis.nodes')}")
     check_keys(t, ANALYSIS_KEYS, "[analysis]")
-    resolution = t.get("resolution", "normal")
-    if not isinstance(resolution, str) or resolution not in RESOLUTIONS:
-        raise Invalid(
-            f"analysis.resolution = {show(resolution)} is not a resolution; use one of {words(RESOLUTIONS)}"
-        )
+    nodes = None
+    if "nodes" in t:
+        v = t["nodes"]
+        if isinstance(v, bool) or not isinstance(v, int) or v < 20:
+            raise Invalid(f"analysis.nodes = {show(v)}; give a whole number of nodes >= 20 (e.g. 450) or leave "
+                          "it out for adaptive refinement")
+        nodes = v
     mesh_size = None
     if "mesh_size" in t:
         mesh_size = number(t["mesh_size"], "analysis.mesh_size", "m")
@@ -161,7 +165,28 @@ def _parse_analysis(t: dict) -> Analysis:
             raise Invalid(
                 f"analysis.mesh_size is {fmt(mesh_size)} m; give an element size > 0 (m) or leave it out"
             )
-    return Analysis(resolution=resolution, mesh_size=mesh_size)
+    if nodes is not None and mesh_size is not None:
+        raise Invalid("analysis.nodes and analysis.mesh_size both set one uniform mesh; keep one of them")
+    target_gap = 0.03
+    if "target_gap" in t:
+        target_gap = number(t["target_gap"], "analysis.target_gap", "")
+        if not 0 < target_gap < 1:
+            raise Invalid(f"analysis.target_gap is {fmt(target_gap)}; give (upper - lower) / upper as a number "
+                          "between 0 and 1, e.g. 0.03")
+    time_limit = 120.0
+    if "time_limit" in t:
+        time_limit = number(t["time_limit"], "analysis.time_limit", "s")
+        if time_limit <= 0:
+            raise Invalid(f"analysis.time_limit is {fmt(time_limit)} s; give a time > 0 s, e.g. 120")
+    return Analysis(nodes=nodes, mesh_size=mesh_size, target_gap=target_gap, time_limit=time_limit)
+
+
+def resolution_replacement(option: str) -> str:
+    """What replaces the preset mesh words, worded for `option` ("analysis.nodes" or "--nodes")."""
+    pairs = ", ".join(f"{w} = {n}" for w, n in OLD_RESOLUTION_NODES.items())
+    gap = "--gap" if option.startswith("--") else "analysis.target_gap"
+    return (f"use {option} for one uniform mesh of about that many nodes ({pairs}), or leave it out to refine "
+            f"the mesh until the bounds are within {gap} of each other")
 
 
 def model_for_case(model: Model, case: LoadCase) -> Model:

@@ -14,7 +14,9 @@ import numpy as np
 from shapely.geometry import Polygon
 
 EDGE_KINDS = ("simple", "continuous", "free")
-RESOLUTIONS = ("coarse", "normal", "fine")
+#: How the preset mesh words of earlier versions map to analysis.nodes (for the message that
+#: refuses them).
+OLD_RESOLUTION_NODES = {"coarse": 150, "normal": 450, "fine": 1100}
 
 
 @dataclass(frozen=True, eq=False)
@@ -127,12 +129,17 @@ class PointLoad:
 class Analysis:
     """Solver settings.
 
-    resolution: "coarse" | "normal" | "fine" (target node counts, see mesh.py).
-    mesh_size: optional explicit target element size in m; overrides resolution.
+    nodes: about this many nodes on the slab in one uniform mesh, no refinement (None: not set).
+    mesh_size: element size in m of one uniform mesh, no refinement (None: not set).
+    With neither, the mesh is refined adaptively (solve.py) until the bracket
+    (upper - lower) / upper is at most target_gap, or time_limit (s) is reached, or a step
+    no longer narrows it.
     """
 
-    resolution: str = "normal"
+    nodes: int | None = None
     mesh_size: float | None = None
+    target_gap: float = 0.03
+    time_limit: float = 120.0
 
 
 @dataclass(frozen=True)

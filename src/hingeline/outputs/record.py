@@ -1,11 +1,11 @@
 """Calculation record: one self-contained HTML page a checking engineer can follow.
 
-`build_report(model, results_by_resolution)` turns the solves of one model at
-several mesh resolutions into the text of an HTML page: the project (job, reference,
+`build_report(model, result)` turns the solve of one model (with its mesh refinement
+history) into the text of an HTML page: the project (job, reference,
 revision, prepared and checked by) and the model file's name and SHA-256 at the head,
 model summary, method
-and assumptions, the load factor in words, the energy balance, resolution and
-convergence, warnings and the certificate check, the lower bound and its
+and assumptions, the load factor in words, the energy balance, the mesh refinement
+(both bounds against nodes), warnings and the certificate check, the lower bound and its
 re-check, the numbered yield lines, the cautions, the drawings, and in an appendix the
 model file's text as read (escaped).
 The page is rendered by Jinja2 from templates/record.html.j2 (with autoescaping,
@@ -13,11 +13,11 @@ so user text such as titles and load names is escaped); this module and its two
 helpers (record_model for section 1, record_tables for sections 4 to 7) only
 prepare the data, as dicts and lists of already-formatted values.
 Drawings are embedded (SVG as data URIs), CSS is inline; the page needs no
-network and no JavaScript. `write_report(model, outdir, resolutions)` solves,
+network and no JavaScript. `write_report(model, outdir, ...)` solves,
 renders in memory and only then writes OUTDIR/report.html.
 
 `report_data(...)` returns the numbers the page prints (energy balance,
-convergence table, lower bound) as plain Python values, for tests and other callers.
+refinement history, lower bound) as plain Python values, for tests and other callers.
 
 Units: lengths m, moments kNm/m, area loads kPa, work kNm, time s.
 May import: `model`, `result`, `solve` and the other `outputs` modules (plots,
@@ -31,22 +31,20 @@ import logging
 import os
 from datetime import datetime, timezone
 from pathlib import Path
-from typing import Mapping, Sequence
 
 import jinja2
 import numpy as np
 
-from ..model import RESOLUTIONS, Model
+from ..model import Model
 from ..result import CAUTIONS, Result, load_factor_text
 from .record_model import method_items, model_tables
 from .record_tables import (
     certificate_table,
-    convergence_rows,
-    convergence_table,
     energy_balance,
     lower_bound_summary,
     lower_bound_table,
-    ordered,
+    refinement_rows,
+    refinement_table,
     work_tables,
     yield_line_table,
 )
@@ -54,11 +52,8 @@ from .result_json import hingeline_version
 
 log = logging.getLogger(__name__)
 
-__all__ = ["REPORT_NAME", "REPORT_RESOLUTIONS", "build_report", "convergence_rows", "energy_balance",
-           "lower_bound_summary", "report_data", "solve_resolutions", "write_report"]
-
-#: Resolutions every report is solved at (the requested one is added if different).
-REPORT_RESOLUTIONS = ("coarse", "normal")
+__all__ = ["REPORT_NAME", "build_report", "energy_balance", "lower_bound_summary", "refinement_rows",
+           "report_data", "write_report"]
 
 #: File name written by write_report.
 REPORT_NAME = "report.html"
@@ -79,24 +74,11 @@ def _environment() -> jinja2.Environment:
                               keep_trailing_newline=True, undefined=jinja2.StrictUndefined)
 
 
-def report_data(model: Model, results: Mapping[str, Result], primary: str | None = None) -> dict:
-    """The numbers the report prints: primary label, energy balance, convergence rows,
-    and the lower bound of the primary solve (see lower_bound_summary)."""
-    if not results:
-        raise ValueError("report needs at least one result")
-    primary = _primary(model, results, primary)
-    return {"primary": primary, "balance": energy_balance(model, results[primary]),
-            "convergence": convergence_rows(results), "lower_bound": lower_bound_summary(results[primary])}
-
-
-def _primary(model: Model, results: Mapping[str, Result], primary: str | None) -> str:
-    if primary is not None:
-        if primary not in results:
-            raise ValueError(f"primary resolution {primary!r} is not among the results {list(results)}")
-        return primary
-    if model.analysis.resolution in results and model.analysis.mesh_size is None:
-        return model.analysis.resolution
-    return ordered(results)[-1]
+def report_data(model: Model, result: Result) -> dict:
+    """The numbers the report prints: energy balance, refinement rows (one per mesh solved)
+    and the lower bound (see lower_bound_summary)."""
+    return {"balance": energy_balance(model, result), "refinement": refinement_rows(result),
+            "lower_bound": lower_bound_summary(result)}
 
 
 # --- drawings --------------------------------------------------------------------
@@ -198,6 +180,30 @@ def pattern_tables(model: Model, result: Result) -> dict | None:
     }
 
 
+def _refinement_svg(result: Result) -> str | None:
+    """Data URI of a small SVG plot of the upper and lower bound of each refinement step
+    against its nodes on the slab; None for a single mesh."""
+    steps = result.refinement
+    if len(steps) < 2:
+        return None
+    from .drawing import _agg_figure
+
+    fig = _agg_figure((5.0, 3.0))
+    ax = fig.add_subplot()
+    n = [st.nodes for st in steps]
+    ax.plot(n, [st.load_factor for st in steps], "o-", color="#8b1a1a", label="upper bound (mechanism)")
+    low = [(k, st.lower_bound) for k, st in zip(n, steps) if st.lower_bound is not None]
+    if low:
+        ax.plot(*zip(*low), "s--", color="#1f3f7a", label="lower bound (moment field)")
+    ax.set_xlabel("nodes on the slab")
+    ax.set_ylabel("load factor")
+    ax.grid(True, color="#dddddd", linewidth=0.5)
+    ax.legend(fontsize=8)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="svg", metadata={"Creator": f"hingeline {hingeline_version()}", "Date": None})
+    return "data:image/svg+xml;base64," + base64.b64encode(buf.getvalue()).decode("ascii")
+
+
 # --- page ----------------------------------------------------------------------------
 
 
@@ -214,13 +220,9 @@ def _head(model: Model) -> dict:
     return {"project": project, "source": source}
 
 
-def page_data(model: Model, results: Mapping[str, Result], primary: str | None = None,
-              generated: str | None = None) -> dict:
+def page_data(model: Model, res: Result, generated: str | None = None) -> dict:
     """Everything the template prints, as already-formatted values (see build_report)."""
-    data = report_data(model, results, primary)
-    primary = data["primary"]
-    res = results[primary]
-    rows = data["convergence"]
+    data = report_data(model, res)
     lf = float(res.load_factor)
     cases = None
     if res.case:
@@ -229,8 +231,6 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
                  "rows": [{"name": n, "load_factor": load_factor_text(v),
                            "lower_bound": None if lb is None else load_factor_text(lb)}
                           for (n, v), lb in zip(res.cases, lowers)]}
-    better = min((r for r in rows if r["load_factor"] < lf * (1 - 1e-9) and r["label"] != primary),
-                 key=lambda r: r["load_factor"], default=None)
     yl = res.yield_lines
     n_sag = int(np.sum(np.asarray(yl.sagging, bool)))
     figures, utilisation = _drawings(res)
@@ -238,15 +238,13 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
         "title": model.title or "Untitled slab",
         "version": hingeline_version(),
         "generated": generated or datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
-        "primary": primary,
         "slab_nodes": res.stats.slab_nodes,
+        "meshes": len(res.refinement),
         "cautions": list(CAUTIONS),
         "load_factor": {"value": repr(lf), "text": load_factor_text(lf, 4)},
         "held": any(not ld.factored for ld in model.loads),
         "below_one": lf < 1,
         "cases": cases,
-        "better": None if better is None else {"load_factor": load_factor_text(better['load_factor'], 4),
-                                                "label": better["label"]},
         "model": model_tables(model),
         "method": method_items(model),
         "yield_lines": yield_line_table(res),
@@ -254,70 +252,36 @@ def page_data(model: Model, results: Mapping[str, Result], primary: str | None =
                       "at_support": int(np.sum(np.asarray(yl.at_support, bool)))},
         "figures": figures,
         "work": work_tables(data["balance"]),
-        "convergence": convergence_table(rows, primary),
+        "refinement": refinement_table(data["refinement"], res) | {"plot": _refinement_svg(res)},
         "certificate": certificate_table(res),
         "lower_bound": lower_bound_table(res) | {"utilisation": utilisation},
         "pattern": pattern_tables(model, res),
     }
 
 
-def build_report(model: Model, results_by_resolution: Mapping[str, Result], primary: str | None = None,
-                 generated: str | None = None) -> str:
-    """HTML text of the calculation record.
+def build_report(model: Model, result: Result, generated: str | None = None) -> str:
+    """HTML text of the calculation record of `result` (a solve of `model`).
 
-    results_by_resolution: label ("coarse", "normal", "fine" or another label) ->
-    Result of solving `model` there. primary: the label whose mechanism the record
-    reports in full (default: the model's resolution if solved, else the finest).
     generated: timestamp text for the header (default: now, UTC).
     All user text is HTML-escaped; the page has inline CSS and embedded drawings only.
     """
-    page = page_data(model, results_by_resolution, primary, generated)
+    page = page_data(model, result, generated)
     return _environment().get_template(TEMPLATE).render(page)
 
 
-def solve_resolutions(model: Model, resolutions: Sequence[str] | None = None,
-                      primary: str | None = None) -> tuple[dict[str, Result], str]:
-    """Solve `model` at each resolution; return (results by label, label reported in full).
-
-    resolutions: default REPORT_RESOLUTIONS plus the primary. primary: a resolution solved
-    in addition (default: the model's; when the model sets analysis.mesh_size and no
-    primary is given, that mesh size). The record reports in full the solve with the lowest
-    load factor, which governs (every solve is an upper bound), so that its headline, work
-    equation, drawings and lower bound come from that one solve.
-    """
-    from ..solve import solve_cases
-
-    plan: dict[str, tuple[str | None, float | None]] = {}
-    if primary is None and model.analysis.mesh_size is not None:
-        primary = f"mesh size {model.analysis.mesh_size:g} m"
-        plan[primary] = (None, model.analysis.mesh_size)
-    primary = primary or model.analysis.resolution
-    names = list(resolutions) if resolutions is not None else list(REPORT_RESOLUTIONS)
-    if primary in RESOLUTIONS and primary not in names:
-        names.append(primary)
-    for r in names:
-        if r not in RESOLUTIONS:
-            raise ValueError(f"resolution must be one of {RESOLUTIONS}, not {r!r}")
-        plan.setdefault(r, (r, None))
-    results = {}
-    for label in ordered(plan):
-        res, size = plan[label]
-        log.info("report: solving at %s", label)
-        results[label] = solve_cases(model, resolution=res, mesh_size=size)
-    governing = min(ordered(results), key=lambda k: results[k].load_factor)
-    return results, governing
-
-
-def write_report(model: Model, outdir: str | os.PathLike, resolutions: Sequence[str] | None = None,
-                 primary: str | None = None) -> Path:
-    """Solve `model` (see solve_resolutions), write OUTDIR/report.html; return its path.
+def write_report(model: Model, outdir: str | os.PathLike, nodes: int | None = None, mesh_size: float | None = None,
+                 gap: float | None = None, time_limit: float | None = None) -> Path:
+    """Solve `model` (hingeline.solve_cases with these mesh options: by default refined to
+    the model's target gap), write OUTDIR/report.html; return its path.
 
     The page is built in memory first and written to a temporary name that is then
     renamed, so a failure leaves no half-written report. Raises OSError when the
     folder cannot be written, and what `solve` raises.
     """
-    results, primary = solve_resolutions(model, resolutions, primary)
-    text = build_report(model, results, primary)
+    from ..solve import solve_cases
+
+    result = solve_cases(model, nodes, mesh_size, gap=gap, time_limit=time_limit)
+    text = build_report(model, result)
     out = Path(outdir)
     out.mkdir(parents=True, exist_ok=True)
     final = out / REPORT_NAME

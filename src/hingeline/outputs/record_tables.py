@@ -1,7 +1,7 @@
 """Numbers of the calculation record and the tables that print them (sections 4 to 7).
 
-`energy_balance`, `convergence_rows` and `lower_bound_summary` return the numbers as
-plain Python values (for tests and other callers); `work_tables`, `convergence_table`,
+`energy_balance`, `refinement_rows` and `lower_bound_summary` return the numbers as
+plain Python values (for tests and other callers); `work_tables`, `refinement_table`,
 `certificate_table`, `lower_bound_table` and `yield_line_table` turn them into the page data
 the templates print (`status_words` puts the cone solver's status in words): dicts and lists of already-formatted strings, booleans for the template's
 choices, and `cell`s for numbers that carry their full-precision value in data-value.
@@ -14,13 +14,11 @@ May import: `model`, `result`, `lower`, `upper.certificate` and `outputs.result_
 from __future__ import annotations
 
 import dataclasses
-from typing import Mapping
-
 import numpy as np
 
 from ..lower import EQUILIBRIUM_RTOL
-from ..model import RESOLUTIONS, Model
-from ..result import LOAD_FACTOR_DIGITS, Result, load_factor_text
+from ..model import Model
+from ..result import LOAD_FACTOR_DIGITS, STOP_REASONS, Result, load_factor_text
 from ..upper.certificate import work_per_load
 from .numbering import LABEL_SHARE, line_rows
 from .record_model import load_unit, xy
@@ -55,12 +53,6 @@ _STATUS_WORDS = {
 def cell(value: float, fmt: str = ".6g") -> dict:
     """A number as the page prints it: value (repr, for data-value) and text (formatted)."""
     return {"value": repr(float(value)), "text": format(float(value), fmt)}
-
-
-def ordered(labels) -> list[str]:
-    """Resolution labels coarse -> fine, any other label (explicit mesh size) last."""
-    rank = {r: i for i, r in enumerate(RESOLUTIONS)}
-    return sorted(labels, key=lambda k: (rank.get(k, len(RESOLUTIONS)), k))
 
 
 def status_words(status: str, passed: bool | None = None) -> str:
@@ -122,20 +114,20 @@ def energy_balance(model: Model, result: Result) -> dict:
     }
 
 
-def convergence_rows(results: Mapping[str, Result]) -> list[dict]:
-    """One row per solve, coarse -> fine: label, load_factor, lower_bound (None when not
-    computed or not found), nodes, slab_nodes, candidate_lines, lp_lines, active_lines,
-    rounds, seconds."""
+def refinement_rows(result: Result) -> list[dict]:
+    """One row per mesh solved, in order: step (1, 2, ...), nodes (on the slab), load_factor,
+    lower_bound and gap (None when none was proven), seconds, and whether the step holds the
+    reported upper bound (upper) and lower bound (lower)."""
+    steps = result.refinement
+    lower = None if result.lower_bound is None else result.lower_bound.load_factor
     rows = []
-    for label in ordered(results):
-        r = results[label]
-        s = r.stats
-        lower = None if r.lower_bound is None else r.lower_bound.load_factor
-        rows.append({"label": label, "load_factor": float(r.load_factor),
-                     "lower_bound": None if lower is None else float(lower), "nodes": s.nodes,
-                     "slab_nodes": s.slab_nodes, "candidate_lines": s.candidate_lines,
-                     "lp_lines": s.lp_lines, "active_lines": len(r.yield_lines), "rounds": s.rounds,
-                     "seconds": float(s.seconds), "mesh_size": float(s.mesh_size)})
+    for k, st in enumerate(steps, 1):
+        rows.append({"step": k, "nodes": int(st.nodes), "load_factor": float(st.load_factor),
+                     "lower_bound": None if st.lower_bound is None else float(st.lower_bound),
+                     "gap": None if st.gap is None else float(st.gap), "seconds": float(st.seconds),
+                     "upper": abs(st.load_factor - result.load_factor) <= 1e-12 * abs(result.load_factor),
+                     "lower": lower is not None and st.lower_bound is not None
+                     and abs(st.lower_bound - lower) <= 1e-12 * abs(lower)})
     return rows
 
 
@@ -159,24 +151,21 @@ def lower_bound_summary(result: Result) -> dict:
     return out
 
 
-def trend(rows: list[dict]) -> str:
-    """One sentence on how the load factor moves with the mesh, from convergence_rows."""
+def trend(rows: list[dict], result: Result) -> str:
+    """Sentences on how the bracket moved with refinement and why it stopped, from refinement_rows."""
+    stop = STOP_REASONS.get(result.stop, result.stop)
     if len(rows) < 2:
-        return ("Only one resolution was solved, so no trend can be stated; solve at a finer "
-                "resolution to see how far the upper bound falls.")
-    lfs = [r["load_factor"] for r in rows]
-    steps = [b - a for a, b in zip(lfs, lfs[1:])]
-    names = " → ".join(r["label"] for r in rows)
-    change = (lfs[-1] - lfs[0]) / abs(lfs[0]) * 100 if lfs[0] else float("nan")
-    if all(d <= 1e-9 * max(1.0, abs(a)) for d, a in zip(steps, lfs)):
-        text = (f"The load factor falls (or stays) with each refinement ({names}: {change:+.2f} % overall), "
-                "as expected of upper bounds: a finer mesh offers more candidate lines, so the mechanism "
-                "found can only get closer to the true one from above.")
-    else:
-        text = (f"The load factor does not fall at every refinement ({names}: {change:+.2f} % overall). "
-                "The meshes are not nested, so a finer mesh need not contain every line of a coarser one; "
-                "each value is still an upper bound and the lowest of them is the best estimate.")
-    return text
+        return (f"One mesh was solved ({stop}), so no trend can be stated; leave out analysis.nodes and "
+                "analysis.mesh_size to refine the mesh until the bounds are close enough.")
+    first, last = rows[0], rows[-1]
+    change = (last["load_factor"] - first["load_factor"]) / abs(first["load_factor"]) * 100
+    gap = result.gap
+    shown = "no lower bound" if gap is None else f"a gap of {100 * gap:.2f} %"
+    target = "" if result.target_gap is None else f" (target {100 * result.target_gap:.2f} %)"
+    return (f"{len(rows)} meshes, {first['nodes']} to {last['nodes']} nodes on the slab: the upper bound moved "
+            f"{change:+.2f} % and the bracket ended at {shown}{target}. Refinement stopped because {stop}. "
+            "The reported load factor is the lowest upper bound of all steps and the lower bound the highest "
+            "proven one; each was re-checked on its own mesh.")
 
 
 # --- page data -------------------------------------------------------------------
@@ -201,16 +190,17 @@ def work_tables(bal: dict) -> dict:
     }
 
 
-def convergence_table(rows: list[dict], primary: str) -> dict:
-    """Section 5 (resolution and convergence) from convergence_rows."""
+def refinement_table(rows: list[dict], result: Result) -> dict:
+    """Section 5 (mesh refinement) from refinement_rows."""
     return {
-        "rows": [{"label": r["label"], "reported": r["label"] == primary, "mesh_size": f"{r['mesh_size']:.3f}",
+        "rows": [{"step": r["step"], "nodes": r["nodes"],
                   "load_factor": cell(r["load_factor"], f"#.{LOAD_FACTOR_DIGITS}g"),
-                  "lower_bound": None if r["lower_bound"] is None else cell(r["lower_bound"], ".4f"),
-                  "nodes": r["nodes"], "slab_nodes": r["slab_nodes"], "candidate_lines": r["candidate_lines"],
-                  "lp_lines": r["lp_lines"], "active_lines": r["active_lines"], "rounds": r["rounds"],
-                  "seconds": f"{r['seconds']:.2f}"} for r in rows],
-        "trend": trend(rows),
+                  "lower_bound": None if r["lower_bound"] is None else cell(r["lower_bound"], f"#.{LOAD_FACTOR_DIGITS}g"),
+                  "gap": "–" if r["gap"] is None else f"{100 * r['gap']:.2f} %",
+                  "upper": r["upper"], "lower": r["lower"], "seconds": f"{r['seconds']:.2f}"} for r in rows],
+        "trend": trend(rows, result),
+        "stop": STOP_REASONS.get(result.stop, result.stop),
+        "mesh_size": f"{result.stats.mesh_size:.3f}",
     }
 
 

@@ -30,7 +30,7 @@ from typing import Any, Iterable
 import numpy as np
 
 from ..model import Model
-from ..result import CAUTIONS, Result
+from ..result import CAUTIONS, STOP_REASONS, Result
 from ..upper.certificate import CERTIFICATE_RTOL
 from ..upper.certificate import certificate_agrees as agrees
 
@@ -81,6 +81,11 @@ def _float(x: Any) -> float | None:
     """A plain Python float at full precision; None for NaN/inf (not valid JSON)."""
     v = float(x)
     return v if math.isfinite(v) else None
+
+
+def _maybe(x: Any) -> float | None:
+    """_float(x), or None for None."""
+    return None if x is None else _float(x)
 
 
 def _floats(a: Any) -> list:
@@ -137,8 +142,10 @@ def model_to_dict(model: Model) -> dict:
             for sp in model.supports
         ],
         "analysis": {
-            "resolution": model.analysis.resolution,
+            "nodes": model.analysis.nodes,
             "mesh_size": None if model.analysis.mesh_size is None else _float(model.analysis.mesh_size),
+            "target_gap": _float(model.analysis.target_gap),
+            "time_limit": _float(model.analysis.time_limit),
         },
     }
 
@@ -247,7 +254,8 @@ def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
     for a model with load cases, the governing case's loads), warnings, cautions,
     case (governing load case or None), cases (name and load factor of every case),
     lower_bound (None when not computed, else {load_factor, gap, solved, status, seconds,
-    reason, check, field {nodes, triangles, moments}}), pattern (the clean pattern, see
+    reason, check, field {nodes, triangles, moments}}), refinement ({stop, stop_reason,
+    target_gap, steps: [{nodes, load_factor, lower_bound, gap, seconds}]}), pattern (the clean pattern, see
     pattern_to_dict; computed here unless given, None when it cannot be read). Floats keep
     full precision; non-finite floats become None.
     See docs/result-format.md.
@@ -280,6 +288,14 @@ def result_to_dict(result: Result, pattern: Any = _UNSET) -> dict:
                    "lower_bound": None if lb is None else _float(lb)}
                   for (n, lf), lb in zip(result.cases, result.case_lower_bounds or (None,) * len(result.cases))],
         "lower_bound": _lower_bound_to_dict(result),
+        "refinement": {
+            "stop": result.stop,
+            "stop_reason": STOP_REASONS.get(result.stop, result.stop),
+            "target_gap": _maybe(result.target_gap),
+            "steps": [{"nodes": int(st.nodes), "load_factor": _float(st.load_factor),
+                       "lower_bound": _maybe(st.lower_bound), "gap": _maybe(st.gap), "seconds": _float(st.seconds)}
+                      for st in result.refinement],
+        },
         "pattern": pattern_to_dict(pattern),
     }
 

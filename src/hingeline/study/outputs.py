@@ -86,8 +86,11 @@ def page_data(study, rows: list[Row], options: SolveOptions, images: dict[str, b
         "version": hingeline_version(),
         "study": study.path.name, "model": study.model_path.name,
         "target": f"{study.target:g}",
-        "solve": (f"resolution {options.resolution or 'of the model'}"
+        "solve": (("mesh of the model" if options.nodes is None and options.mesh_size is None else "one uniform mesh")
+                  + ("" if options.nodes is None else f" of about {options.nodes} nodes")
                   + ("" if options.mesh_size is None else f", mesh size {options.mesh_size:g} m")
+                  + ("" if options.gap is None else f", target gap {options.gap:g}")
+                  + ("" if options.time_limit is None else f", time limit {options.time_limit:g} s")
                   + ("" if options.lower_bound else ", no lower bound")),
         "moving": None if study.move is None else {
             "what": (f"opening {study.move.opening} of the model" if study.move.opening else "a new opening"),

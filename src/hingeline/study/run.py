@@ -39,13 +39,16 @@ CLUSTER_HINT = "install the cluster extra: pip install 'hingeline[cluster]'"
 
 @dataclass(frozen=True)
 class SolveOptions:
-    """How every variant is solved (hingeline.solve_cases): resolution "coarse" | "normal" |
-    "fine" or None (the model's), mesh_size in m or None, lower_bound on or off; drawings:
+    """How every variant is solved (hingeline.solve_cases): nodes (one uniform mesh of about
+    that many nodes) or mesh_size in m, else refinement to gap within time_limit s (None: the
+    model's), lower_bound on or off; drawings:
     also store pattern.png, mechanism.png, deflection.png (and utilisation.png) per variant (not part of the
     fingerprint: it changes no figure)."""
 
-    resolution: str | None = None
+    nodes: int | None = None
     mesh_size: float | None = None
+    gap: float | None = None
+    time_limit: float | None = None
     lower_bound: bool = True
     drawings: bool = False
 
@@ -89,8 +92,8 @@ def solve_variant(model_text: str, options: SolveOptions) -> dict:
     model = model_from_toml(model_text, "variant model")
     t0 = time.perf_counter()
     try:
-        result = solve_cases(model, resolution=options.resolution, mesh_size=options.mesh_size,
-                                      lower_bound=options.lower_bound)
+        result = solve_cases(model, options.nodes, options.mesh_size, options.lower_bound, options.gap,
+                             options.time_limit)
     except (UnstableSlabError, SolverError) as exc:
         return {"status": f"failed: {exc}", "seconds": time.perf_counter() - t0, "files": {}}
     seconds = time.perf_counter() - t0
