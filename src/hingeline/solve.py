@@ -172,6 +172,7 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
     steps, best, lower, prev = [], None, None, None
     up_best = lo_best = None
     last_gap = milder = None
+    best_sound = False
     while True:
         mesh = mesh_domain(domain, model, size, None if uniform else field)
         if len(mesh.nodes) > MAX_NODES:
@@ -202,8 +203,14 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
         step_gap = None if lo is None else (raw.load_factor - lo) / raw.load_factor
         steps.append(RefinementStep(raw.stats.slab_nodes, raw.load_factor, lo, step_gap,
                                     time.perf_counter() - t_step))
-        if up_best is None or raw.load_factor < up_best:
-            best, up_best = (raw, mismatch, support_w), raw.load_factor
+        # Only a step whose mechanism is certified may hold the lowest upper bound: on a
+        # refined L-shaped slab the interior-point fallback of the vertex step once gave a
+        # mechanism whose work equation disagreed with its LP value by a factor of 4.
+        chk = check_mechanism(model, raw.mechanism)
+        sound = (certificate_agrees(raw.load_factor, chk, float(np.abs(raw.mechanism.w).max()))
+                 and mismatch <= 1e-8 and support_w <= 1e-8)
+        if best is None or (sound and (not best_sound or raw.load_factor < up_best)):
+            best, up_best, best_sound = (raw, mismatch, support_w), raw.load_factor, sound
         if lb is not None and (lower is None or (lo is not None and (lo_best is None or lo > lo_best))):
             lower, lo_best = lb, (lo if lo is not None else lo_best)
         prev = (mesh.nodes, len(mesh.nodes), active)

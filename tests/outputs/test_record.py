@@ -202,8 +202,8 @@ def test_cli_report_writes_page_and_refinement_table(tmp_path, capsys):
     model_path = tmp_path / "l.toml"
     model_path.write_text(L_SLAB.replace("[analysis]\nnodes = 150\n", ""), encoding="utf-8")   # refined
     out = tmp_path / "out"
-    # A tight gap, so that the mesh is refined at least once (the first step alone does not reach it).
-    assert main(["report", str(model_path), "-o", str(out), "--gap", "0.01", "--time-limit", "15"]) == 0
+    # A gap the first step alone does not reach (about 8 % there), so the mesh is refined at least once.
+    assert main(["report", str(model_path), "-o", str(out), "--gap", "0.03", "--time-limit", "15"]) == 0
     page = out / "report.html"
     assert page.is_file()
     assert str(page) in capsys.readouterr().out

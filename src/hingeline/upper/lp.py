@@ -318,10 +318,10 @@ def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_re
     LP of 17,717 lines) 0.5 s + 0.9 s, against 20 s for a simplex from scratch over the
     9,062 lines the interior-point solution uses. When that fails ('Solve error' was seen
     on a skewed slab with rounded coordinates), a simplex from scratch over the lines the
-    interior-point solution uses and the first LP's lines, then over all LP lines. A try
-    is kept only if it does not lose optimality; if all fail, the interior-point rotations
-    are used as they are (a compatible mechanism all the same; the certificate check
-    judges it)."""
+    interior-point solution uses and the first LP's lines. Both simplex solves have an
+    iteration limit. A try is kept only if it does not lose optimality; if both fail, the
+    interior-point rotations are used as they are (the certificate check judges the
+    mechanism; refinement keeps only certified steps)."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
     if _option(h, "solver") == "simplex":
@@ -343,8 +343,11 @@ def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_re
         log.info("crossover to a vertex failed (%s)", err)
     big = np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max()
     big[:n_first] = True
-    for idx in (np.flatnonzero(big), np.arange(len(lines))):
+    for idx in (np.flatnonzero(big),):
         hv = _new_model(n_nodes, ipm=False, n_extra=n_extra)
+        # Limited too: a fresh simplex over a refined mesh's lines was seen to run on for
+        # minutes; the interior-point rotations below are the (certified) fallback.
+        hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
         _add(hv, lines.take(idx), n_nodes, m_ref)
         try:
             vsol, vobj = _run(hv)
