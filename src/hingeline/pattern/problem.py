@@ -229,19 +229,26 @@ class _Problem:
         dW_dg = (m * sign)[:, None] * u
         return work, dW_du, dW_dg
 
+    def _side_groups(self, C):
+        """The two groups of sides, each as (a, b, right region r, left region s or None, slope
+        jump dg across them, capacities, hogging only, weight): sides between two regions,
+        then sides on ground (on the right: dg = 0 - g_r; only hogging, theta L < 0, does
+        work there, at the support's share)."""
+        groups = []
+        if len(self.inner):
+            a, b, r, s = self.inner.T
+            groups.append((a, b, r, s, C[s, 1:] - C[r, 1:], self.cap["inner"], False, np.ones(len(a))))
+        if len(self.outer_ab):
+            a, b, r = self.outer_ab.T
+            groups.append((a, b, r, None, -C[r, 1:], self.cap["outer"], True, self.outer_f))
+        return groups
+
     def side_lin(self, P, C):
         """Every side's theta L (k,), its derivatives (k, nvar), its sagging and hogging
         capacities (k,) at the current directions, and its weight (hogging share on supports;
         sides on supports count hogging only)."""
         rows, J, mp, mm, wt = [], [], [], [], []
-        parts = []
-        if len(self.inner):
-            a, b, r, s = self.inner.T
-            parts.append((a, b, r, s, C[s, 1:] - C[r, 1:], self.cap["inner"], False, np.ones(len(a))))
-        if len(self.outer_ab):
-            a, b, r = self.outer_ab.T
-            parts.append((a, b, r, None, -C[r, 1:], self.cap["outer"], True, self.outer_f))
-        for a, b, r, s, dg, caps, ho, f in parts:
+        for a, b, r, s, dg, caps, ho, f in self._side_groups(C):
             d = P[b] - P[a]
             u = np.stack([-d[:, 1], d[:, 0]], axis=1)
             L = np.maximum(np.hypot(u[:, 0], u[:, 1]), 1e-300)
@@ -267,15 +274,7 @@ class _Problem:
     def internal(self, P, C, want_grad=False):
         total = 0.0
         grad = np.zeros(self.nvar) if want_grad else None
-        parts = []
-        if len(self.inner):
-            a, b, r, s = self.inner.T
-            parts.append((a, b, r, s, C[s, 1:] - C[r, 1:], self.cap["inner"], False, np.ones(len(a))))
-        if len(self.outer_ab):
-            a, b, r = self.outer_ab.T
-            # Ground on the right: dg = 0 - g_r; hogging (theta L < 0) does work, at the share.
-            parts.append((a, b, r, None, -C[r, 1:], self.cap["outer"], True, self.outer_f))
-        for a, b, r, s, dg, caps, hog, f in parts:
+        for a, b, r, s, dg, caps, hog, f in self._side_groups(C):
             work, dW_du, dW_dg = self._sides(P, a, b, dg, caps, hog)
             total += float(np.sum(f * work))
             if want_grad:
