@@ -52,12 +52,14 @@ log = logging.getLogger(__name__)
 
 
 EPS = 1e-8          # extra LP cost per m of line, relative to m_ref (see the module docstring)
-BATCH_PER_NODE = 2  # most lines added per round, per node
+BATCH_PER_NODE = 4  # most lines added per round, per node (see solve_lp)
 NEAR = 1e-3         # lines this close to violating (per m, per m_ref) may join a round's batch
 LOCAL = 3.0         # the first LP also holds every line up to LOCAL median mesh edges long
-# Simplex iterations allowed after crossover (see _vertex). 5,000 sent the 858-node refined
-# clamped square (final LP 18,593 lines) to the fresh solves, 23 s; it needed 12,355 from the
-# crossover's basis, 6.5 s.
+# Simplex iterations allowed after HiGHS's crossover (see _vertex): where its basis was good
+# the simplex needed none; where it was poor (12,355 on the 858-node refined clamped square,
+# 6.8 s) repeating the solve with IPX's own crossover took 2.4 s.
+CROSSOVER_ITERATIONS = 1000
+# Simplex iterations allowed in the other vertex solves.
 VERTEX_ITERATIONS = 20000
 
 
@@ -276,7 +278,10 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     """Adaptive DLO solve over every admissible line of `source`.
 
     initial: (k, 2) node pairs a < b of the mesh edges (each must be admissible).
-    m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round.
+    m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round
+    (default BATCH_PER_NODE per node; measured on the clamped square at 1068 nodes with 2, 4
+    and 8 per node: 5, 4 and 5 rounds, 14.2, 11.2 and 18.0 s in the LP; on the refined podium
+    deck, 2 against 4: 10.6 against 8.1 s).
     carried: (c, 2) node pairs a < b also put in the first LP (the active lines of a coarser
     mesh mapped to these nodes); those not admissible are dropped.
     """
@@ -313,34 +318,54 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
 
 def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_ref: float, n_extra: int):
     """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
-    sees clean hinges. First crossover from the interior-point solution, then the simplex
-    from the basis it finds, on the live model: on the irregular slab at 2308 nodes (final
-    LP of 17,717 lines) 0.5 s + 0.9 s, against 20 s for a simplex from scratch over the
-    9,062 lines the interior-point solution uses. When that fails ('Solve error' was seen
-    on a skewed slab with rounded coordinates), a simplex from scratch over the lines the
-    interior-point solution uses and the first LP's lines. Both simplex solves have an
-    iteration limit. A try is kept only if it does not lose optimality; if both fail, the
-    interior-point rotations are used as they are (the certificate check judges the
-    mechanism; refinement keeps only certified steps)."""
+    sees clean hinges. First HiGHS's crossover from the interior-point solution, then a short
+    simplex from the basis it finds, on the live model: on the irregular slab at 2308 nodes
+    (final LP of 17,717 lines) 0.5 s + 0.9 s. When that basis is far from optimal, the
+    interior-point solve is repeated with IPX's own crossover, which works from IPX's
+    internal iterate: on the 858-node refined clamped square (final LP 18,593 lines) 2.4 s,
+    where the simplex from HiGHS's crossover basis needed 12,355 iterations and 6.8 s. When
+    both fail ('Solve error' was seen on a skewed slab with rounded coordinates), a simplex
+    from scratch over the lines the interior-point solution uses and the first LP's lines.
+    Simplex solves have iteration limits. A try is kept only if it does not lose
+    optimality; if all fail, the interior-point rotations are used as they are (the
+    certificate check judges the mechanism; refinement keeps only certified steps)."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
     if _option(h, "solver") == "simplex":
         return theta_ipm        # the rounds ended on the simplex: already a vertex
     limit = obj * (1 + 1e-7) + 1e-12
+
+    def accepted(vsol, vobj):
+        if vobj > limit:
+            return None
+        xv = np.asarray(vsol.col_value)
+        return xv[0::2] - xv[1::2]
+
     try:
         h.crossover(sol)
         h.setOptionValue("solver", "simplex")
-        # From the crossover's basis the simplex needs few iterations; on the simply
-        # supported square it was seen to run on for minutes instead. A deterministic
-        # iteration limit (not a time limit) sends such a case to the fresh solves below.
-        h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+        # From a good crossover basis the simplex needs few iterations; a deterministic
+        # iteration limit (not a time limit) sends a poor basis to IPX's crossover below.
+        h.setOptionValue("simplex_iteration_limit", CROSSOVER_ITERATIONS)
         vsol, vobj = _run(h)
         log.info("vertex by crossover: %d simplex iterations", h.getInfo().simplex_iteration_count)
-        if vobj <= limit:
-            xv = np.asarray(vsol.col_value)
-            return xv[0::2] - xv[1::2]
+        theta = accepted(vsol, vobj)
+        if theta is not None:
+            return theta
     except (SolverError, UnstableSlabError) as err:
         log.info("crossover to a vertex failed (%s)", err)
+    try:
+        h.clearSolver()
+        h.setOptionValue("solver", "ipm")
+        h.setOptionValue("run_crossover", "on")
+        h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+        vsol, vobj = _run(h)
+        log.info("vertex by IPX crossover: %d crossover iterations", h.getInfo().crossover_iteration_count)
+        theta = accepted(vsol, vobj)
+        if theta is not None:
+            return theta
+    except (SolverError, UnstableSlabError) as err:
+        log.info("IPX crossover to a vertex failed (%s)", err)
     big = np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max()
     big[:n_first] = True
     for idx in (np.flatnonzero(big),):
