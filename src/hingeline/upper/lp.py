@@ -56,8 +56,7 @@ BATCH_PER_NODE = 4  # most lines added per round, per node (see solve_lp)
 NEAR = 1e-3         # lines this close to violating (per m, per m_ref) may join a round's batch
 LOCAL = 3.0         # the first LP also holds every line up to LOCAL median mesh edges long
 # Simplex iterations allowed after HiGHS's crossover (see _vertex): where its basis was good
-# the simplex needed none; where it was poor (12,355 on the 858-node refined clamped square,
-# 6.8 s) repeating the solve with IPX's own crossover took 2.4 s.
+# the simplex needed none; where it was poor it needed 12,355 (858-node refined clamped square).
 CROSSOVER_ITERATIONS = 1000
 # Simplex iterations allowed in the other vertex solves.
 VERTEX_ITERATIONS = 20000
@@ -290,7 +289,6 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     lines = _first_lines(source, np.asarray(initial), carried)
     batch = batch or max(BATCH_PER_NODE * n, 200)
     _add(h, lines, n, m_ref)
-    n_first = len(lines)
     rounds = count = 0
     viol_max = np.inf
     while True:
@@ -313,43 +311,58 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
             break
         _add(h, new, n, m_ref)
         lines = concat([lines, new])
-    theta = _vertex(h, sol, obj, lines, n_first, n, m_ref, source.n_extra)
+    theta = _vertex(h, sol, obj, lines, n, m_ref, source.n_extra)
     return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
 
-def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_ref: float, n_extra: int):
+def _vertex(h, sol, obj: float, lines: LineSet, n_nodes: int, m_ref: float, n_extra: int):
     """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
-    sees clean hinges. First HiGHS's crossover from the interior-point solution, then a short
-    simplex from the basis it finds, on the live model: on the irregular slab at 2308 nodes
-    (final LP of 17,717 lines) 0.5 s + 0.9 s. When that basis is far from optimal, the
-    interior-point solve is repeated with IPX's own crossover, which works from IPX's
-    internal iterate: on the 858-node refined clamped square (final LP 18,593 lines) 2.4 s,
-    where the simplex from HiGHS's crossover basis needed 12,355 iterations and 6.8 s. When
-    both fail ('Solve error' was seen on a skewed slab with rounded coordinates), a simplex
-    from scratch over the lines the interior-point solution uses and the first LP's lines.
-    Simplex solves have iteration limits. A try is kept only if it does not lose
-    optimality; if all fail, the interior-point rotations are used as they are (the
-    certificate check judges the mechanism; refinement keeps only certified steps)."""
+    sees clean hinges. Tries, keeping the first that does not lose optimality:
+    1. interior point with IPX's crossover over the support of the interior-point solution
+       (the lines whose |theta| exceeds 1e-7 of the largest), a small LP: on the 858-node
+       refined clamped square 278 of 18,593 lines, 0.03 s, the optimum to 2e-9;
+    2. HiGHS's crossover from the interior-point solution on the live model and a short
+       simplex from its basis (fast where that basis is good; on the same square it needed
+       12,355 iterations and 6.8 s, hence the iteration limit);
+    3. the interior-point solve repeated on the live model with IPX's own crossover (2.4 s
+       there);
+    4. the interior-point rotations as they are (the certificate check judges the mechanism;
+       refinement keeps only certified steps)."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
     if _option(h, "solver") == "simplex":
         return theta_ipm        # the rounds ended on the simplex: already a vertex
     limit = obj * (1 + 1e-7) + 1e-12
 
-    def accepted(vsol, vobj):
+    def accepted(vsol, vobj, idx=None):
         if vobj > limit:
             return None
         xv = np.asarray(vsol.col_value)
-        return xv[0::2] - xv[1::2]
+        if idx is None:
+            return xv[0::2] - xv[1::2]
+        theta = np.zeros(len(lines))
+        theta[idx] = xv[0::2] - xv[1::2]
+        return theta
 
+    idx = np.flatnonzero(np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max())
+    hv = _new_model(n_nodes, ipm=True, n_extra=n_extra)
+    hv.setOptionValue("run_crossover", "on")
+    hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+    _add(hv, lines.take(idx), n_nodes, m_ref)
+    try:
+        theta = accepted(*_run(hv), idx)
+        if theta is not None:
+            log.info("vertex over the %d lines the interior-point solution uses", len(idx))
+            return theta
+        log.info("the %d lines the interior-point solution uses lose optimality", len(idx))
+    except (SolverError, UnstableSlabError) as err:
+        log.info("vertex over %d lines failed (%s)", len(idx), err)
     try:
         h.crossover(sol)
         h.setOptionValue("solver", "simplex")
-        # From a good crossover basis the simplex needs few iterations; a deterministic
-        # iteration limit (not a time limit) sends a poor basis to IPX's crossover below.
+        # A deterministic iteration limit (not a time limit) sends a poor basis on.
         h.setOptionValue("simplex_iteration_limit", CROSSOVER_ITERATIONS)
-        vsol, vobj = _run(h)
+        theta = accepted(*_run(h))
         log.info("vertex by crossover: %d simplex iterations", h.getInfo().simplex_iteration_count)
-        theta = accepted(vsol, vobj)
         if theta is not None:
             return theta
     except (SolverError, UnstableSlabError) as err:
@@ -359,30 +372,11 @@ def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_re
         h.setOptionValue("solver", "ipm")
         h.setOptionValue("run_crossover", "on")
         h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-        vsol, vobj = _run(h)
+        theta = accepted(*_run(h))
         log.info("vertex by IPX crossover: %d crossover iterations", h.getInfo().crossover_iteration_count)
-        theta = accepted(vsol, vobj)
         if theta is not None:
             return theta
     except (SolverError, UnstableSlabError) as err:
         log.info("IPX crossover to a vertex failed (%s)", err)
-    big = np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max()
-    big[:n_first] = True
-    for idx in (np.flatnonzero(big),):
-        hv = _new_model(n_nodes, ipm=False, n_extra=n_extra)
-        # Limited too: a fresh simplex over a refined mesh's lines was seen to run on for
-        # minutes; the interior-point rotations below are the (certified) fallback.
-        hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-        _add(hv, lines.take(idx), n_nodes, m_ref)
-        try:
-            vsol, vobj = _run(hv)
-        except (SolverError, UnstableSlabError) as err:
-            log.info("simplex over %d lines failed: %s", len(idx), err)
-            continue
-        if vobj <= limit:
-            xv = np.asarray(vsol.col_value)
-            theta = np.zeros(len(lines))
-            theta[idx] = xv[0::2] - xv[1::2]
-            return theta
     log.info("no vertex solution: using the interior-point solution")
     return theta_ipm
