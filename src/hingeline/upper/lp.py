@@ -40,6 +40,7 @@ import os
 import sys
 import time
 from dataclasses import dataclass
+from functools import partial
 
 import highspy
 import numpy as np
@@ -314,69 +315,81 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     theta = _vertex(h, sol, obj, lines, n, m_ref, source.n_extra)
     return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
 
+def _support_vertex(lines: LineSet, idx: np.ndarray, n_nodes: int, m_ref: float, n_extra: int, ipm: bool,
+                    feas: float):
+    """(solution, objective) of the LP over lines[idx] alone: interior point with IPX's
+    crossover, or the simplex; feasibility tolerances `feas`."""
+    hv = _new_model(n_nodes, ipm=ipm, n_extra=n_extra)
+    hv.setOptionValue("primal_feasibility_tolerance", feas)
+    hv.setOptionValue("dual_feasibility_tolerance", feas)
+    hv.setOptionValue("run_crossover", "on")
+    hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+    _add(hv, lines.take(idx), n_nodes, m_ref)
+    return _run(hv)
+
+
+def _live_crossover(h, sol):
+    """HiGHS's crossover from the interior-point solution `sol` on the live model, then a
+    short simplex from its basis (a deterministic iteration limit, not a time limit)."""
+    h.crossover(sol)
+    h.setOptionValue("solver", "simplex")
+    h.setOptionValue("simplex_iteration_limit", CROSSOVER_ITERATIONS)
+    return _run(h)
+
+
+def _live_ipx_crossover(h):
+    """The interior-point solve repeated on the live model with IPX's own crossover."""
+    h.clearSolver()
+    h.setOptionValue("solver", "ipm")
+    h.setOptionValue("run_crossover", "on")
+    h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
+    return _run(h)
+
+
 def _vertex(h, sol, obj: float, lines: LineSet, n_nodes: int, m_ref: float, n_extra: int):
     """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
-    sees clean hinges. Tries, keeping the first that does not lose optimality:
+    sees clean hinges. Tries in turn, keeping the first that does not lose optimality:
     1. interior point with IPX's crossover over the support of the interior-point solution
        (the lines whose |theta| exceeds 1e-7 of the largest), a small LP: on the 858-node
        refined clamped square 278 of 18,593 lines, 0.03 s, the optimum to 2e-9;
-    2. HiGHS's crossover from the interior-point solution on the live model and a short
-       simplex from its basis (fast where that basis is good; on the same square it needed
-       12,355 iterations and 6.8 s, hence the iteration limit);
-    3. the interior-point solve repeated on the live model with IPX's own crossover (2.4 s
-       there);
-    4. the interior-point rotations as they are (the certificate check judges the mechanism;
-       refinement keeps only certified steps)."""
+    2. HiGHS's crossover on the live model and a short simplex (fast where its basis is
+       good; on the same square it needed 12,355 iterations and 6.8 s, hence the limit);
+    3. the live model solved again with IPX's crossover (2.4 s there);
+    4. the support LP at feasibility tolerances of 1e-8, by interior point, then by the
+       simplex: on a model whose points were moved by 1e-6 m the basic solutions kept
+       infeasibilities of 7e-8, HiGHS said 'Unknown' at 1e-9, and 2 and 3 failed too
+       (looser tolerances come last: on another such model they cost a plane mismatch
+       of 4e-7 where 2 gave a clean vertex);
+    5. the interior-point rotations as they are.
+    The certificate check judges whichever mechanism results; refinement keeps only
+    certified steps."""
     x = np.asarray(sol.col_value)
     theta_ipm = x[0::2] - x[1::2]
     if _option(h, "solver") == "simplex":
         return theta_ipm        # the rounds ended on the simplex: already a vertex
     limit = obj * (1 + 1e-7) + 1e-12
-
-    def accepted(vsol, vobj, idx=None):
-        if vobj > limit:
-            return None
-        xv = np.asarray(vsol.col_value)
-        if idx is None:
-            return xv[0::2] - xv[1::2]
-        theta = np.zeros(len(lines))
-        theta[idx] = xv[0::2] - xv[1::2]
-        return theta
-
     idx = np.flatnonzero(np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max())
-    hv = _new_model(n_nodes, ipm=True, n_extra=n_extra)
-    hv.setOptionValue("run_crossover", "on")
-    hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-    _add(hv, lines.take(idx), n_nodes, m_ref)
-    try:
-        theta = accepted(*_run(hv), idx)
-        if theta is not None:
-            log.info("vertex over the %d lines the interior-point solution uses", len(idx))
-            return theta
-        log.info("the %d lines the interior-point solution uses lose optimality", len(idx))
-    except (SolverError, UnstableSlabError) as err:
-        log.info("vertex over %d lines failed (%s)", len(idx), err)
-    try:
-        h.crossover(sol)
-        h.setOptionValue("solver", "simplex")
-        # A deterministic iteration limit (not a time limit) sends a poor basis on.
-        h.setOptionValue("simplex_iteration_limit", CROSSOVER_ITERATIONS)
-        theta = accepted(*_run(h))
-        log.info("vertex by crossover: %d simplex iterations", h.getInfo().simplex_iteration_count)
-        if theta is not None:
-            return theta
-    except (SolverError, UnstableSlabError) as err:
-        log.info("crossover to a vertex failed (%s)", err)
-    try:
-        h.clearSolver()
-        h.setOptionValue("solver", "ipm")
-        h.setOptionValue("run_crossover", "on")
-        h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-        theta = accepted(*_run(h))
-        log.info("vertex by IPX crossover: %d crossover iterations", h.getInfo().crossover_iteration_count)
-        if theta is not None:
-            return theta
-    except (SolverError, UnstableSlabError) as err:
-        log.info("IPX crossover to a vertex failed (%s)", err)
+    support = partial(_support_vertex, lines, idx, n_nodes, m_ref, n_extra)
+    tries = [("the support", partial(support, True, 1e-9)),
+             ("crossover", partial(_live_crossover, h, sol)),
+             ("IPX crossover", partial(_live_ipx_crossover, h)),
+             ("the support at 1e-8", partial(support, True, 1e-8)),
+             ("the support by simplex at 1e-8", partial(support, False, 1e-8))]
+    for name, attempt in tries:
+        try:
+            vsol, vobj = attempt()
+        except (SolverError, UnstableSlabError) as err:
+            log.info("vertex by %s failed (%s)", name, err)
+            continue
+        if vobj > limit:
+            log.info("vertex by %s loses optimality (%.9g > %.9g)", name, vobj, obj)
+            continue
+        xv = np.asarray(vsol.col_value)
+        theta = xv[0::2] - xv[1::2]
+        if name.startswith("the support"):
+            theta = np.zeros(len(lines))
+            theta[idx] = xv[0::2] - xv[1::2]
+        log.info("vertex by %s (%d lines in the support)", name, len(idx))
+        return theta
     log.info("no vertex solution: using the interior-point solution")
     return theta_ipm
