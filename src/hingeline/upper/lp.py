@@ -29,38 +29,31 @@ cost nothing, and motions of the fill alone cost nothing and do no work: the opt
 face of the LP is unbounded. Interior point then drifts along it (rotations in the
 fill thousands of times those in the slab, status 'imprecise' or 'Unknown', and a
 simplex over the lines it uses reports 'infeasible' or 'unbounded'). Every line in
-the LP therefore carries a small extra cost EPS * m_ref per m of length; its effect
+the LP therefore carries a small extra cost EPS * m_ref per m of length (highs.py); its effect
 on the load factor is below the pricing tolerance, and the load factor reported is
 the true cost of the mechanism found.
 """
 from __future__ import annotations
 
 import logging
-import os
-import sys
 import time
 from dataclasses import dataclass
-from functools import partial
 
 import highspy
 import numpy as np
 from scipy.spatial import cKDTree
 
-from ..errors import HeldLoadCollapse, SolverError, UnstableSlabError
+from ..errors import SolverError
+from .highs import add_lines, new_model, run
 from .pricing import CandidateSource, LineSet, concat
+from .vertex import vertex_rotations
 
 log = logging.getLogger(__name__)
 
 
-EPS = 1e-8          # extra LP cost per m of line, relative to m_ref (see the module docstring)
 BATCH_PER_NODE = 4  # most lines added per round, per node (see solve_lp)
 NEAR = 1e-3         # lines this close to violating (per m, per m_ref) may join a round's batch
 LOCAL = 3.0         # the first LP also holds every line up to LOCAL median mesh edges long
-# Simplex iterations allowed after HiGHS's crossover (see _vertex): where its basis was good
-# the simplex needed none; where it was poor it needed 12,355 (858-node refined clamped square).
-CROSSOVER_ITERATIONS = 1000
-# Simplex iterations allowed in the other vertex solves.
-VERTEX_ITERATIONS = 20000
 
 
 @dataclass(frozen=True, eq=False)
@@ -80,106 +73,15 @@ class LPSolution:
     max_violation: float
 
 
-def _columns(lines: LineSet, n_nodes: int, extra_cost: np.ndarray):
-    """HiGHS column data for `lines`: each gives a +theta and a -theta column."""
-    c = lines.cand
-    a, b, t = c.a, c.b, c.tangent
-    k = len(c)
-    rows = np.stack([2 * a, 2 * a + 1, 2 * b, 2 * b + 1, np.full_like(a, 2 * n_nodes)], axis=1)
-    vals = np.stack([t[:, 0], t[:, 1], -t[:, 0], -t[:, 1], lines.f], axis=1)
-    line = np.repeat(np.arange(k), 5)
-    row, val = rows.ravel(), vals.ravel()
-    if lines.extra.shape[1]:
-        e = lines.extra.tocoo()
-        line = np.concatenate([line, e.row])
-        row = np.concatenate([row, 2 * n_nodes + 1 + e.col])
-        val = np.concatenate([val, e.data])
-    keep = val != 0.0  # e.g. f of a vertical line
-    line, row, val = line[keep], row[keep], val[keep]
-    # Column 2j is +theta_j, column 2j+1 is -theta_j (negated entries).
-    col = np.concatenate([2 * line, 2 * line + 1])
-    row = np.concatenate([row, row])
-    val = np.concatenate([val, -val])
-    order = np.lexsort((row, col))
-    col, row, val = col[order], row[order], val[order]
-    starts = np.searchsorted(col, np.arange(2 * k))
-    cost = np.empty(2 * k)
-    cost[0::2] = c.cost_plus - lines.g + extra_cost
-    cost[1::2] = c.cost_minus + lines.g + extra_cost
-    return cost, starts.astype(np.int32), row.astype(np.int32), val
-
-
-def _highs() -> highspy.Highs:
-    """A HiGHS instance; its licence banner (printed to fd 1 on the first construction in a
-    process) is kept out of the command line's output."""
-    sys.stdout.flush()
-    saved = os.dup(1)
-    try:
-        with open(os.devnull, "w") as null:
-            os.dup2(null.fileno(), 1)
-            h = highspy.Highs()
-    finally:
-        os.dup2(saved, 1)
-        os.close(saved)
-    h.setOptionValue("output_flag", False)
-    return h
-
-
-def _new_model(n_nodes, ipm, n_extra=0):
-    h = _highs()
-    h.setOptionValue("output_flag", False)
-    h.setOptionValue("primal_feasibility_tolerance", 1e-9)
-    h.setOptionValue("dual_feasibility_tolerance", 1e-9)
-    if ipm:
-        # Interior point without crossover while lines are being added: its duals lie inside
-        # the optimal dual face, so degenerate problems (the simply supported square) do not
-        # keep pricing in useless lines, and it was 4-8 times faster than either simplex on
-        # these LPs (clamped square, 1068 nodes, 19k lines: IPM 3.5 s, dual simplex 17 s,
-        # primal simplex 30 s).
-        h.setOptionValue("solver", "ipm")
-        h.setOptionValue("run_crossover", "off")
-    # Presolve spends its time searching for dependent equations among the compatibility rows
-    # and finds none worth removing (clamped square, 1068 nodes, final LP of 2137 rows and
-    # 23k columns: 13.4 s with presolve, 1.15 s without, the same optimum).
-    h.setOptionValue("presolve", "off")
-    nrow = 2 * n_nodes + 1 + n_extra
-    lower = np.zeros(nrow)
-    upper = np.zeros(nrow)
-    lower[2 * n_nodes] = upper[2 * n_nodes] = 1.0
-    h.addRows(nrow, lower, upper, 0, np.zeros(0, np.int32), np.zeros(0, np.int32), np.zeros(0))
-    return h
-
-
-def _add(h, lines: LineSet, n_nodes: int, m_ref: float):
-    cost, starts, indices, values = _columns(lines, n_nodes, EPS * m_ref * lines.cand.length)
-    k = 2 * len(lines)
-    h.addCols(k, cost, np.zeros(k), np.full(k, highspy.kHighsInf), len(indices), starts, indices, values)
-
-
-def _run(h):
-    h.run()
-    status = h.getModelStatus()
-    if status == highspy.HighsModelStatus.kUnbounded:
-        raise HeldLoadCollapse(
-            "the slab collapses under its held loads (scaled = false) alone: there is a mechanism whose "
-            "held-load work exceeds its internal work; reduce the held loads or add strength/supports")
-    if status == highspy.HighsModelStatus.kInfeasible:
-        raise SolverError("the linear program is infeasible: no mechanism does positive work "
-                          "under the scaled loads (check the loads)")
-    if status != highspy.HighsModelStatus.kOptimal:
-        raise SolverError(f"HiGHS stopped with status '{h.modelStatusToString(status)}'")
-    return h.getSolution(), h.getInfo().objective_function_value
-
-
 def _run_rounds(h):
-    """_run for the LP rounds; when IPX stops short of optimality (status 'Unknown' was seen on
+    """run() for the LP rounds; when IPX stops short of optimality (status 'Unknown' was seen on
     a slab on columns), retry with crossover, then with the simplex, and keep the simplex for
     the rounds that follow. On a square on four pinned columns IPX stopped so in every round
     from the fourth on, and the duals of each retry moved inside the optimal face: 23 rounds
     at the same load factor, 56 s; keeping the simplex (warm-started from the basis of the
     round before) ended the line search in 4 rounds, 8.5 s."""
     try:
-        return _run(h)
+        return run(h)
     except SolverError as first:
         if h.getModelStatus() in (highspy.HighsModelStatus.kUnbounded, highspy.HighsModelStatus.kInfeasible):
             raise
@@ -187,18 +89,12 @@ def _run_rounds(h):
     for option, value in (("run_crossover", "on"), ("solver", "simplex")):
         h.setOptionValue(option, value)
         try:
-            out = _run(h)
+            out = run(h)
         except SolverError:
             continue
         h.setOptionValue("solver", "simplex")
         return out
     raise SolverError("HiGHS could not solve the linear program with interior point or simplex")
-
-
-def _option(h, name: str):
-    """The value of a HiGHS option (highspy returns (status, value) in some versions)."""
-    value = h.getOptionValue(name)
-    return value[1] if isinstance(value, tuple) else value
 
 
 def _true_objective(lines: LineSet, theta: np.ndarray) -> float:
@@ -286,10 +182,10 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     mesh mapped to these nodes); those not admissible are dropped.
     """
     n = source.n_nodes
-    h = _new_model(n, ipm=True, n_extra=source.n_extra)
+    h = new_model(n, ipm=True, n_extra=source.n_extra)
     lines = _first_lines(source, np.asarray(initial), carried)
     batch = batch or max(BATCH_PER_NODE * n, 200)
-    _add(h, lines, n, m_ref)
+    add_lines(h, lines, n, m_ref)
     rounds = count = 0
     viol_max = np.inf
     while True:
@@ -310,86 +206,8 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
             if viol_max > tol:
                 log.info("LP stopped with violation %.2e left", viol_max)
             break
-        _add(h, new, n, m_ref)
+        add_lines(h, new, n, m_ref)
         lines = concat([lines, new])
-    theta = _vertex(h, sol, obj, lines, n, m_ref, source.n_extra)
+    theta = vertex_rotations(h, sol, obj, lines, n, m_ref, source.n_extra)
     return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
 
-def _support_vertex(lines: LineSet, idx: np.ndarray, n_nodes: int, m_ref: float, n_extra: int, ipm: bool,
-                    feas: float):
-    """(solution, objective) of the LP over lines[idx] alone: interior point with IPX's
-    crossover, or the simplex; feasibility tolerances `feas`."""
-    hv = _new_model(n_nodes, ipm=ipm, n_extra=n_extra)
-    hv.setOptionValue("primal_feasibility_tolerance", feas)
-    hv.setOptionValue("dual_feasibility_tolerance", feas)
-    hv.setOptionValue("run_crossover", "on")
-    hv.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-    _add(hv, lines.take(idx), n_nodes, m_ref)
-    return _run(hv)
-
-
-def _live_crossover(h, sol):
-    """HiGHS's crossover from the interior-point solution `sol` on the live model, then a
-    short simplex from its basis (a deterministic iteration limit, not a time limit)."""
-    h.crossover(sol)
-    h.setOptionValue("solver", "simplex")
-    h.setOptionValue("simplex_iteration_limit", CROSSOVER_ITERATIONS)
-    return _run(h)
-
-
-def _live_ipx_crossover(h):
-    """The interior-point solve repeated on the live model with IPX's own crossover."""
-    h.clearSolver()
-    h.setOptionValue("solver", "ipm")
-    h.setOptionValue("run_crossover", "on")
-    h.setOptionValue("simplex_iteration_limit", VERTEX_ITERATIONS)
-    return _run(h)
-
-
-def _vertex(h, sol, obj: float, lines: LineSet, n_nodes: int, m_ref: float, n_extra: int):
-    """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
-    sees clean hinges. Tries in turn, keeping the first that does not lose optimality:
-    1. interior point with IPX's crossover over the support of the interior-point solution
-       (the lines whose |theta| exceeds 1e-7 of the largest), a small LP: on the 858-node
-       refined clamped square 278 of 18,593 lines, 0.03 s, the optimum to 2e-9;
-    2. HiGHS's crossover on the live model and a short simplex (fast where its basis is
-       good; on the same square it needed 12,355 iterations and 6.8 s, hence the limit);
-    3. the live model solved again with IPX's crossover (2.4 s there);
-    4. the support LP at feasibility tolerances of 1e-8, by interior point, then by the
-       simplex: on a model whose points were moved by 1e-6 m the basic solutions kept
-       infeasibilities of 7e-8, HiGHS said 'Unknown' at 1e-9, and 2 and 3 failed too
-       (looser tolerances come last: on another such model they cost a plane mismatch
-       of 4e-7 where 2 gave a clean vertex);
-    5. the interior-point rotations as they are.
-    The certificate check judges whichever mechanism results; refinement keeps only
-    certified steps."""
-    x = np.asarray(sol.col_value)
-    theta_ipm = x[0::2] - x[1::2]
-    if _option(h, "solver") == "simplex":
-        return theta_ipm        # the rounds ended on the simplex: already a vertex
-    limit = obj * (1 + 1e-7) + 1e-12
-    idx = np.flatnonzero(np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max())
-    support = partial(_support_vertex, lines, idx, n_nodes, m_ref, n_extra)
-    tries = [("the support", partial(support, True, 1e-9)),
-             ("crossover", partial(_live_crossover, h, sol)),
-             ("IPX crossover", partial(_live_ipx_crossover, h)),
-             ("the support at 1e-8", partial(support, True, 1e-8)),
-             ("the support by simplex at 1e-8", partial(support, False, 1e-8))]
-    for name, attempt in tries:
-        try:
-            vsol, vobj = attempt()
-        except (SolverError, UnstableSlabError) as err:
-            log.info("vertex by %s failed (%s)", name, err)
-            continue
-        if vobj > limit:
-            log.info("vertex by %s loses optimality (%.9g > %.9g)", name, vobj, obj)
-            continue
-        xv = np.asarray(vsol.col_value)
-        theta = xv[0::2] - xv[1::2]
-        if name.startswith("the support"):
-            theta = np.zeros(len(lines))
-            theta[idx] = xv[0::2] - xv[1::2]
-        log.info("vertex by %s (%d lines in the support)", name, len(idx))
-        return theta
-    log.info("no vertex solution: using the interior-point solution")
-    return theta_ipm
