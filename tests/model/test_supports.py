@@ -13,6 +13,7 @@ import pytest
 from model_inputs import HOLE, base, error_of, signed_area
 
 from hingeline.model import parse_model
+from hingeline.model.supports import STRIP
 
 
 def with_supports(**tables) -> dict:
@@ -45,8 +46,25 @@ def test_wall_footprint_is_path_length_times_thickness():
     wall = {"path": [[1.0, 1.0], [1.0, 4.0], [5.0, 4.0]], "thickness": 0.3, "connection": "pinned"}
     (w,) = parse_model(with_supports(wall=[wall])).supports
     # Flat ends, mitred corner: the length of the centre line (3 + 4 m) times the thickness.
-    assert w.polygon.area == pytest.approx(7.0 * 0.3, rel=1e-12)
+    assert w.physical.area == pytest.approx(7.0 * 0.3, rel=1e-12)
     assert w.connection == "pinned"
+    # Without slab.thickness a pinned wall holds its path alone (EN 1992-1-1 5.3.2.2 with
+    # a = t/2): a strip 2 x STRIP x t wide round it.
+    assert w.polygon.area == pytest.approx(7.0 * 2 * STRIP * 0.3, rel=1e-9)
+    assert w.physical.covers(w.polygon)
+
+
+def test_pinned_wall_holds_the_strip_of_its_effective_span():
+    # EN 1992-1-1 5.3.2.2 (Figure 5.4): the support of the effective span lies
+    # a = min(h/2, t/2) inside each face; h = 0.2 m slab on a t = 0.3 m wall: a strip
+    # t - 2a = 0.1 m wide along the path (4 m long).
+    d = with_supports(wall=[{"path": [[1.0, 1.0], [5.0, 1.0]], "thickness": 0.3, "connection": "pinned"}])
+    d["slab"]["thickness"] = 0.2
+    (w,) = parse_model(d).supports
+    assert w.polygon.area == pytest.approx(4.0 * 0.1, rel=1e-9)
+    assert w.physical.area == pytest.approx(4.0 * 0.3, rel=1e-12)
+    (m,) = parse_model(with_supports(wall=[{"path": [[1.0, 1.0], [5.0, 1.0]], "thickness": 0.3}])).supports
+    assert m.polygon.area == pytest.approx(4.0 * 0.3, rel=1e-12) and m.footprint is None   # monolithic: whole
 
 
 def test_default_wall_thickness_is_0_2_m():

@@ -42,17 +42,55 @@ def test_monolithic_column_is_never_weaker_than_pinned():
         assert not [w for w in r.warnings if "compatible" in w]
 
 
-def test_wall_across_the_slab_makes_two_spans():
+@pytest.mark.parametrize("slab_thickness, a", [(None, 3.0), (0.15, 2.975)])
+def test_wall_across_the_slab_makes_two_spans(slab_thickness, a):
     # A pinned wall on the line x = 3 across a 6 x 4 simply supported slab splits it into two
-    # 3 x 4 simply supported panels (the wall rotates freely: a simple support to each). The
-    # panel short side is 3 - 0.1 = 2.9 m (wall 0.2 m thick); Johansen's rectangle formula gives
-    # q = 24 m / (a^2 (sqrt(3 + (a/b)^2) - a/b)^2) with a = 2.9, b = 4.
+    # simply supported panels (the slab rotates freely over the wall). The panel's span ends
+    # where EN 1992-1-1 5.3.2.2 puts the support, a = min(h/2, t/2) inside the face of the
+    # 0.2 m wall: on the wall's path without slab.thickness (a = 3 m), 0.075 m inside the face
+    # for h = 0.15 m (a = 2.9 + 0.075 m). Johansen's rectangle formula gives
+    # q = 24 m / (a^2 (sqrt(3 + (a/b)^2) - a/b)^2) with b = 4; the strip of 2 x 0.2 mm the
+    # path holds in the first case shortens the span by 0.2 mm (+0.01 %).
     wall = '[[wall]]\npath = [[3.0, 0.0], [3.0, 4.0]]\nconnection = "pinned"'
-    r = hingeline.solve(hingeline.model_from_toml(INTERIOR.format(support=wall).replace("hogging = 8.0", "hogging = 10.0")))
-    a, b, m = 2.9, 4.0, 10.0
+    text = INTERIOR.format(support=wall).replace("hogging = 8.0", "hogging = 10.0")
+    if slab_thickness is not None:
+        text = text.replace('edges = "simple"', f'edges = "simple"\nthickness = {slab_thickness}')
+    r = hingeline.solve(hingeline.model_from_toml(text))
+    b, m = 4.0, 10.0
     johansen = 24 * m / (a * a * ((3 + (a / b) ** 2) ** 0.5 - a / b) ** 2) / 5.0
     assert johansen * (1 - 1e-3) <= r.load_factor <= johansen * 1.03
+    assert r.lower_bound.load_factor <= johansen * (1 + 1e-3)
     assert r.certificate.load_factor == pytest.approx(r.load_factor, rel=1e-6)
+
+
+def test_pinned_wall_spans_to_its_path_not_its_faces():
+    # A 12 x 2 m strip, simple at its short ends, free along its long sides, on a 0.3 m pinned
+    # wall across its middle, hogging capacity 0: two simply supported one-way spans of
+    # L = 6 m (to the wall's path, EN 1992-1-1 5.3.2.2 with no slab thickness given), q = 8 m / L^2
+    # (plastic hinge at mid-span of a simply supported one-way slab). Held flat over its
+    # footprint the wall gave spans of 5.85 m between faces: 8 m / 5.85^2, 5.2 % above.
+    text = """
+[slab]
+outline = [[0, 0], [12, 0], [12, 2], [0, 2]]
+edges = ["free", "simple", "free", "simple"]
+[[wall]]
+path = [[6, 0], [6, 2]]
+thickness = 0.3
+connection = "pinned"
+[capacity]
+sagging = 1.0
+hogging = 0.0
+[[load]]
+type = "area"
+value = 1.0
+[analysis]
+nodes = 150
+"""
+    r = hingeline.solve(hingeline.model_from_toml(text))
+    exact = 8.0 / 6.0 ** 2
+    assert exact <= r.load_factor <= exact * 1.002      # the 0.3 mm strip: +0.01 %
+    assert r.lower_bound.load_factor <= exact * (1 + 1e-6)
+    assert r.load_factor < 8.0 / 5.85 ** 2 * 0.97
 
 
 @pytest.mark.parametrize("support, item", [

@@ -120,7 +120,7 @@ def _parse(data: Any) -> Model:
         analysis = Analysis()
 
     zones = parse_zones(data.get("zone", []), geo)
-    supports = parse_supports(data.get("column", []), data.get("wall", []), geo)
+    supports = parse_supports(data.get("column", []), data.get("wall", []), geo, slab.thickness)
     if all(e == "free" for e in slab.edges) and not supports:
         raise Invalid(
             "slab.edges: every edge is \"free\", so nothing supports the slab; "

@@ -138,7 +138,11 @@ def dimensionless(model: Model, s: Scales) -> Model:
                           hogging=tuple(v / s.moment for v in z.hogging)) for z in model.zones)
     # shapely's affine form [a, b, d, e, xoff, yoff]: x' = a x + b y + xoff, y' = d x + e y + yoff.
     k = 1.0 / s.length
-    supports = tuple(replace(sp, polygon=shapely.affinity.affine_transform(sp.polygon, [k, 0, 0, k, -x0 * k, -y0 * k]),
+
+    def moved(poly):
+        return None if poly is None else shapely.affinity.affine_transform(poly, [k, 0, 0, k, -x0 * k, -y0 * k])
+
+    supports = tuple(replace(sp, polygon=moved(sp.polygon), footprint=moved(sp.footprint),
                              centre=None if sp.centre is None else _frozen(s.points_in(sp.centre[None, :])[0]))
                      for sp in model.supports)
     analysis = model.analysis

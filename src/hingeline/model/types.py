@@ -195,16 +195,24 @@ class Support:
     outline) and connection "monolithic" or "pinned"; centre (2,) in m for a column, None for
     a wall; kind "column" or "wall", the table it was given in (drawings put them apart).
 
-    A monolithic column or any wall holds its footprint as rigid ground; hinges round the
-    faces of a monolithic one mobilise the hogging capacity, those of a pinned wall cost
-    nothing. A pinned column is a bearing point: it holds w = 0 at its centre only and the
-    slab, footprint included, rotates over it in any direction (docs/method.md)."""
+    A monolithic column or wall holds its footprint as rigid ground; hinges round its faces
+    mobilise the hogging capacity. A pinned wall holds only a strip along its path (polygon;
+    the bearing line of EN 1992-1-1 5.3.2.2, see parse_supports), round whose sides hinges
+    cost nothing; footprint is then the whole wall, for drawings and placement checks. A
+    pinned column is a bearing point: it holds w = 0 at its centre only and the slab,
+    footprint included, rotates over it in any direction (docs/method.md)."""
 
     polygon: Polygon
     connection: str
     name: str
     centre: np.ndarray | None = None
     kind: str = "column"
+    footprint: Polygon | None = None
+
+    @property
+    def physical(self) -> Polygon:
+        """The support's whole footprint (m): `footprint` where the held area is smaller."""
+        return self.polygon if self.footprint is None else self.footprint
 
     @property
     def bearing(self) -> bool:

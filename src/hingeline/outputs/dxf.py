@@ -62,7 +62,7 @@ def pattern_dxf(model: Model, pattern) -> bytes:
         msp.add_line(tuple(p), tuple(q), dxfattribs={"layer": EDGE_LAYER[kind]})
     for sp in model.supports:
         layer = "hl-walls" if sp.kind == "wall" else "hl-columns"
-        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+        for part in getattr(sp.physical, "geoms", [sp.physical]):
             _closed(msp, np.asarray(part.exterior.coords)[:-1], layer)
 
     size = float(np.hypot(*np.ptp(outline, axis=0)))

@@ -185,13 +185,15 @@ def draw_openings(ax: Axes, openings: tuple[np.ndarray, ...]) -> None:
 def draw_supports(ax: Axes, model) -> None:
     """Columns and walls: solid dark footprints; monolithic ones with a white cross-hatch. A
     pinned column is slab over a bearing point: a dashed footprint outline and a dot at its
-    centre, so that yield lines crossing the footprint stay visible."""
+    centre, so that yield lines crossing the footprint stay visible. A pinned wall: a dashed
+    footprint outline round the solid strip it holds (its bearing line)."""
     for sp in model.supports:
-        if sp.bearing:
-            for part in getattr(sp.polygon, "geoms", [sp.polygon]):
+        if sp.bearing or sp.footprint is not None:
+            for part in getattr(sp.physical, "geoms", [sp.physical]):
                 ax.add_patch(Polygon(np.asarray(part.exterior.coords), closed=True, facecolor="none",
                                      edgecolor=EDGE_COLOUR, linestyle=(0, (2, 1.5)), linewidth=0.8, zorder=5,
                                      label="_support"))
+        if sp.bearing:
             ax.plot([sp.centre[0]], [sp.centre[1]], marker="o", markersize=4, color=EDGE_COLOUR, zorder=7,
                     label="_bearing")
             continue

@@ -134,7 +134,7 @@ def method_items(model: Model) -> dict[str, bool]:
 
 
 def _support_row(sp) -> dict:
-    ring = np.asarray(sp.polygon.exterior.coords)[:-1] if hasattr(sp.polygon, "exterior") else []
+    ring = np.asarray(sp.physical.exterior.coords)[:-1] if hasattr(sp.physical, "exterior") else []
     return {"name": sp.name, "connection": str(sp.connection), "footprint": _points(ring)}
 
 

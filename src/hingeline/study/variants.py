@@ -125,7 +125,7 @@ def _obstacles(study: Study) -> list[tuple[str, object, str]]:
         if study.move.opening != j + 1:
             out.append((f"hits opening {j + 1}", Polygon(points(op.get("polygon"), "opening")), "near"))
     for sp in study.model.supports:
-        out.append((f"hits {sp.name}", sp.polygon, "near"))
+        out.append((f"hits {sp.name}", sp.physical, "near"))
     for ld in study.model.loads:
         if getattr(ld, "region", None) is not None:
             out.append((f"overlaps the region of load \"{ld.name}\"", Polygon(ld.region), "overlap"))
