@@ -68,7 +68,8 @@ class LPSolution:
     rounds: LP solves, each followed by a pricing pass over every candidate; candidates:
     how many admissible lines there are. max_violation: largest reduced-cost violation
     left at the last pass, per unit length and unit capacity (0 or below tol when the
-    optimum over all candidates is proven)."""
+    optimum over all candidates is proven). carried: how many of the carried node pairs
+    are lines of the first LP (the admissible ones)."""
 
     lines: LineSet
     theta: np.ndarray
@@ -76,6 +77,7 @@ class LPSolution:
     rounds: int
     candidates: int
     max_violation: float
+    carried: int = 0
 
 
 def _columns(lines: LineSet, n_nodes: int, extra_cost: np.ndarray):
@@ -140,6 +142,10 @@ def _new_model(n_nodes, ipm, n_extra=0):
     # and finds none worth removing (clamped square, 1068 nodes, final LP of 2137 rows and
     # 23k columns: 13.4 s with presolve, 1.15 s without, the same optimum).
     h.setOptionValue("presolve", "off")
+    # One thread: interior point (IPX) and the simplex as used here run serially, so HiGHS's
+    # worker thread only competes with the other processes of a parallel study (demo at 800
+    # nodes: the same CPU time and load factor with 1 thread as with the default).
+    h.setOptionValue("threads", 1)
     nrow = 2 * n_nodes + 1 + n_extra
     lower = np.zeros(nrow)
     upper = np.zeros(nrow)
@@ -278,7 +284,9 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     initial: (k, 2) node pairs a < b of the mesh edges (each must be admissible).
     m_ref: largest capacity (kNm/m), to scale violations; batch: most lines added per round.
     carried: (c, 2) node pairs a < b also put in the first LP (the active lines of a coarser
-    mesh mapped to these nodes); those not admissible are dropped.
+    mesh, or of a similar model, mapped to these nodes); those not admissible are dropped.
+    They change only where the rounds start: the loop still stops only when pricing over
+    every admissible line proves the optimum.
     """
     n = source.n_nodes
     h = _new_model(n, ipm=True, n_extra=source.n_extra)
@@ -286,6 +294,10 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     batch = batch or max(BATCH_PER_NODE * n, 200)
     _add(h, lines, n, m_ref)
     n_first = len(lines)
+    n_carried = 0
+    if carried is not None and len(carried):
+        keys = np.asarray(carried, np.int64)
+        n_carried = int(np.isin(np.unique(keys[:, 0] * n + keys[:, 1]), lines.keys(n)).sum())
     rounds = count = 0
     viol_max = np.inf
     while True:
@@ -309,7 +321,7 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
         _add(h, new, n, m_ref)
         lines = concat([lines, new])
     theta = _vertex(h, sol, obj, lines, n_first, n, m_ref, source.n_extra)
-    return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
+    return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0), n_carried)
 
 def _vertex(h, sol, obj: float, lines: LineSet, n_first: int, n_nodes: int, m_ref: float, n_extra: int):
     """Rotations at a vertex of the final LP (few active lines), so that the mechanism stage
