@@ -11,7 +11,8 @@ first LP starts from a solved neighbour's active lines), with 1 worker without r
 environment sets one thread for BLAS and OpenMP, as the study sets for its worker
 processes, so 1 and 2 workers are compared on equal terms. One table: total wall time of
 each (solving, storing each variant, writing study.csv, map.png and study.html), the
-speed-up of 2 workers, the ratio of the times without and with reuse, the largest relative
+speed-up of 2 workers, the ratio of the times without and with reuse and the LP rounds of
+all variants with and without reuse (what reuse can save, whatever the load), the largest relative
 difference of any variant's load factor between the runs, and a few variants' model files
 solved alone in this process against their load factor in study.csv (to 1e-6). Only prints;
 nothing is asserted about time. The load average before and after is printed too: on a
@@ -98,6 +99,12 @@ def _rows(out: Path) -> list[dict]:
         return list(csv.DictReader(f))
 
 
+def _lp_rounds(out: Path, rows: list[dict]) -> int:
+    """LP rounds of all solved variants (from variant.json): the part reuse can save."""
+    return sum(json.loads((out / "variants" / r["variant"] / "variant.json").read_text())["lp_rounds"]
+               for r in rows if r["status"] == "solved")
+
+
 def _largest_difference(a: list[dict], b: list[dict]) -> float:
     diff = [abs(float(x["load_factor"]) - float(y["load_factor"])) / float(x["load_factor"])
             for x, y in zip(a, b) if x["status"] == "solved" and y["status"] == "solved"]
@@ -124,12 +131,13 @@ def main() -> None:
         (folder / "riser.toml").write_text(STUDY.replace("step = 0.7\n", "step = 0.7\n" + SMALL)
                                            if args.small else STUDY)
         plan = build_variants(read_study(folder / "riser.toml"))
-        times, rows = {}, {}
+        times, rows, rounds = {}, {}, {}
         for name, jobs, reuse in RUNS:
             done = subprocess.run([sys.executable, __file__, "--nodes", str(args.nodes), "--one-run", str(folder),
                                    str(jobs), str(int(reuse))], env=env, capture_output=True, text=True, check=True)
             times[name] = json.loads(done.stdout.strip().splitlines()[-1])["seconds"]
             rows[name] = _rows(folder / f"out-{jobs}-{int(reuse)}")
+            rounds[name] = _lp_rounds(folder / f"out-{jobs}-{int(reuse)}", rows[name])
         last = folder / "out-2-1"
         map_ok = (last / "map.png").is_file() and (last / "map.png").stat().st_size > 0
         solved = [r for r in rows["2 workers"] if r["status"] == "solved"]
@@ -148,11 +156,13 @@ def main() -> None:
     print(f"load average (1 min) before: {load_before:.1f}, after: {os.getloadavg()[0]:.1f}")
     print()
     print("| positions on the grid | variants solved | skipped | total, 1 worker (s) | total, 2 workers (s) "
-          "| speed-up | 1 worker, no reuse (s) | no reuse / reuse | runs, largest rel. difference "
+          "| speed-up | 1 worker, no reuse (s) | no reuse / reuse | LP rounds, reuse / no reuse "
+          "| runs, largest rel. difference "
           "| checked alone | largest rel. difference | map drawn |")
-    print("| " + " | ".join(["---:"] * 11) + " | --- |")
+    print("| " + " | ".join(["---:"] * 12) + " | --- |")
     print(f"| {len(plan.xs) * len(plan.ys)} | {len(solved)} | {len(plan.skipped)} | {one:.1f} | {two:.1f} "
-          f"| {one / two:.2f} | {scratch:.1f} | {scratch / one:.2f} | {runs:.1e} | {len(picks)} | {worst:.1e} "
+          f"| {one / two:.2f} | {scratch:.1f} | {scratch / one:.2f} "
+          f"| {rounds['1 worker']} / {rounds['1 worker, no reuse']} | {runs:.1e} | {len(picks)} | {worst:.1e} "
           f"| {'yes' if map_ok else 'NO'} |")
 
 
