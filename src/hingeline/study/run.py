@@ -233,8 +233,9 @@ def _local(tasks: list[tuple[str, str]], where, options: SolveOptions, jobs: int
                                 lambda task, lines: pool.submit(solve_variant, task[1], options, lines),
                                 lambda futures: wait(futures, return_when=FIRST_COMPLETED).done)
         except BrokenProcessPool:
-            raise SolverError("a worker process stopped unexpectedly (out of memory?); run the study again "
-                              "to resume, perhaps with fewer --jobs") from None
+            raise SolverError("a worker process stopped unexpectedly (out of memory? or, from a script, run_study "
+                              "called outside `if __name__ == \"__main__\":`); run the study again to resume, "
+                              "perhaps with fewer --jobs") from None
         finally:
             # An interrupted study stops at once; the variants done so far are stored.
             pool.shutdown(wait=False, cancel_futures=True)
