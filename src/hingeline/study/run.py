@@ -224,7 +224,8 @@ class _Here:
 
 def _local(tasks: list[tuple[str, str]], where, options: SolveOptions, jobs: int) -> Iterator[tuple[str, dict]]:
     if jobs == 1:
-        yield from _ordered(tasks, where, 1, lambda task, lines: _Here(task[1], options, lines), lambda futures: futures)
+        yield from _ordered(tasks, where, 1, lambda task, lines: _Here(task[1], options, lines),
+                            lambda futures: futures)
         return
     with _worker_environment():
         pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"))
