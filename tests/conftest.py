@@ -13,7 +13,7 @@ import pytest
 import hingeline  # noqa: F401  (loads hingeline.solve)
 
 _solve_module = sys.modules["hingeline.solve"]
-_original = _solve_module._lower_bound
+_original = _solve_module.lower_bound_on_mesh
 LOWER_BOUNDS_SEEN = []
 
 
@@ -30,4 +30,4 @@ def _checked(model, domain, mesh, upper, warnings):
 
 @pytest.fixture(autouse=True)
 def _every_lower_bound_below_upper(monkeypatch):
-    monkeypatch.setattr(_solve_module, "_lower_bound", _checked)
+    monkeypatch.setattr(_solve_module, "lower_bound_on_mesh", _checked)

@@ -8,7 +8,8 @@ redistribute), and at the features where moments concentrate (re-entrant corners
 columns, point loads). `refinement_points` returns those places; solve.py gives them
 REFINE_FACTOR times the element size they have now (geometry/mesh.py SizeField) and meshes
 again. Lines that were active on one mesh are mapped to the nearest nodes of the next
-(`carried_lines`) and put in its first LP.
+(`carried_lines`) and put in its first LP; `lines_onto` does the same for lines given by
+their end points (a study hands them from one variant to the next).
 
 Units: whatever the arrays are in (solve.py works in dimensionless units).
 May import: `hingeline.geometry`, `hingeline.lower`, `hingeline.model`, `hingeline.result`.
@@ -106,15 +107,21 @@ def refinement_points(model: Model, domain: Domain, lines: YieldLines, lower: Lo
 def carried_lines(old_nodes: np.ndarray, pairs: np.ndarray, new_nodes: np.ndarray) -> np.ndarray:
     """Node pairs (c, 2), a < b, of `new_nodes` nearest to the ends of the lines `pairs` of
     `old_nodes`; lines whose two ends fall on one node are dropped."""
-    if not len(pairs):
+    return lines_onto(np.asarray(old_nodes)[np.asarray(pairs, np.int64).reshape(-1, 2)], new_nodes)
+
+
+def lines_onto(ends: np.ndarray, new_nodes: np.ndarray) -> np.ndarray:
+    """Node pairs (c, 2), a < b, of `new_nodes` nearest to the end points `ends` (k, 2, 2) of
+    lines (of another mesh, or of a similar model's mesh); lines whose two ends fall on one
+    node are dropped. Whether a pair is an admissible line is left to the LP's candidates."""
+    ends = np.asarray(ends, float).reshape(-1, 2, 2)
+    if not len(ends):
         return np.zeros((0, 2), np.int64)
-    _, near = cKDTree(new_nodes).query(old_nodes[np.unique(pairs)])
-    where = dict(zip(np.unique(pairs).tolist(), near.tolist()))
-    mapped = np.vectorize(where.get)(pairs)
-    mapped = np.sort(mapped, axis=1)
+    _, near = cKDTree(new_nodes).query(ends.reshape(-1, 2))
+    mapped = np.sort(near.reshape(-1, 2), axis=1)
     mapped = mapped[mapped[:, 0] != mapped[:, 1]]
     return np.unique(mapped, axis=0).astype(np.int64)
 
 
 __all__ = ["NARROWING", "REFINE_FACTOR", "carried_lines", "feature_points", "limit_points",
-           "line_points", "refinement_points"]
+           "line_points", "lines_onto", "refinement_points"]

@@ -17,11 +17,11 @@ from . import rescale, review
 from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import MAX_NODES, START_NODES, SizeField, check_node_budget, mesh_domain, mesh_size_for
-from .lower import SOLVER_SETTINGS, check_field, solve_lower_bound
+from .lower_step import lower_bound_on_mesh
 from .model import Model, model_for_case
 from .model.scaling import Scales, dimensionless, scales_of, size_warning
-from .refine import NARROWING, REFINE_FACTOR, carried_lines, refinement_points
-from .result import STOP_REASONS, CertificateCheck, LowerBound, RefinementStep, Result, SolveStats, Work
+from .refine import NARROWING, REFINE_FACTOR, carried_lines, lines_onto, refinement_points
+from .result import STOP_REASONS, CertificateCheck, RefinementStep, Result, SolveStats, Work
 from .upper.certificate import CERTIFICATE_RTOL, certificate_agrees, check_mechanism
 from .upper.lp import solve_lp
 from .upper.mechanism import active_lines, build_mechanism, yield_lines
@@ -70,9 +70,13 @@ def mesh_plan(model: Model, nodes: int | None, mesh_size: float | None) -> tuple
 
 
 def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound: bool, gap: float | None,
-           time_limit: float | None, start: SizeField | None = None) -> tuple[Result, SizeField | None]:
+           time_limit: float | None, start: SizeField | None = None,
+           carried: np.ndarray | None = None) -> tuple[Result, SizeField | None, np.ndarray, int]:
     """solve(), also returning the size field of the last mesh (model units; None for a
-    uniform mesh), and starting from the size field `start` (model units) when given."""
+    uniform mesh), and starting from the size field `start` (model units) when given.
+    carried: end points (k, 2, 2), m, of lines put in the first LP (see solve_carrying).
+    Also returns the end points (k, 2, 2), m, of the active lines of the mechanism kept and
+    how many carried lines went into the first LP."""
     t0 = time.perf_counter()
     uniform, size, option = mesh_plan(model, nodes, mesh_size)
     target = model.analysis.target_gap if gap is None else float(gap)
@@ -83,9 +87,11 @@ def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound
     hint = size_warning(model)
     if start is not None:
         start = SizeField(start.base / s.length, s.points_in(start.points), start.sizes / s.length)
+    if carried is not None:
+        carried = s.points_in(np.asarray(carried, float).reshape(-1, 2)).reshape(-1, 2, 2)
     try:
         run = _refine(dimensionless(model, s), size / s.length, uniform, lower_bound, s, option, target, limit,
-                      start, t0)
+                      start, t0, carried)
     except HeldLoadCollapse as err:
         err.result = _held_alone(model, nodes, mesh_size)
         if hint is not None:
@@ -95,7 +101,7 @@ def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound
         if hint is None:
             raise
         raise UnstableSlabError(f"{err}; {hint}") from None
-    raw, mismatch, support_w, lower_raw, steps, stop, field = run
+    raw, mismatch, support_w, lower_raw, steps, stop, field, active, admitted = run
 
     lf = rescale.load_factor(raw.load_factor, s)
     mech = rescale.mechanism(raw.mechanism, s)
@@ -140,7 +146,7 @@ def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound
                     target_gap=None if uniform else target)
     if field is not None:
         field = SizeField(field.base * s.length, s.points_out(field.points), field.sizes * s.length)
-    return result, field
+    return result, field, s.points_out(active.reshape(-1, 2)).reshape(-1, 2, 2), admitted
 
 
 def _held_alone(model: Model, nodes: int | None, mesh_size: float | None) -> Result | None:
@@ -160,19 +166,22 @@ def _held_alone(model: Model, nodes: int | None, mesh_size: float | None) -> Res
 
 
 def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scales, option: str,
-            target: float, limit: float, start: SizeField | None, t0: float):
-    """The meshes of one solve, in the units `s` (element size `size` in those units).
+            target: float, limit: float, start: SizeField | None, t0: float, carried: np.ndarray | None = None):
+    """The meshes of one solve, in the units `s` (element size `size` in those units);
+    carried: end points (k, 2, 2) of lines for the first mesh's first LP, in those units.
 
     Returns (step result holding the lowest upper bound, its plane mismatch and |w| on
     supports, the LowerBound holding the highest proven lower bound (None without one),
     the steps as RefinementStep in those units, the stop reason, the last size field or
-    None for a uniform mesh)."""
+    None for a uniform mesh, the end points (k, 2, 2) of that step's active lines, how many
+    carried lines the first LP held)."""
     domain = build_domain(model, margin=size)
     field = start if start is not None else SizeField(size, np.zeros((0, 2)), np.zeros(0))
     steps, best, lower, prev = [], None, None, None
     up_best = lo_best = None
     last_gap = milder = None
     best_sound = False
+    admitted = 0
     while True:
         mesh = mesh_domain(domain, model, size, None if uniform else field)
         if len(mesh.nodes) > MAX_NODES:
@@ -194,10 +203,15 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
             if elapsed + guess > limit:
                 stop = "time"
                 break
-        carried = None if prev is None else carried_lines(prev[0], prev[2], mesh.nodes)
+        if prev is None:
+            first = None if carried is None else lines_onto(carried, mesh.nodes)
+        else:
+            first = carried_lines(prev[0], prev[2], mesh.nodes)
         t_step = time.perf_counter()
-        raw, mismatch, support_w, active = _solve_on_mesh(model, domain, mesh, size, lower_bound, s, option,
-                                                          carried)
+        raw, mismatch, support_w, active, n_in = _solve_on_mesh(model, domain, mesh, size, lower_bound, s, option,
+                                                                first)
+        if prev is None:
+            admitted = n_in
         lb = raw.lower_bound
         lo = None if lb is None else lb.load_factor
         step_gap = None if lo is None else (raw.load_factor - lo) / raw.load_factor
@@ -210,7 +224,7 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
         sound = (certificate_agrees(raw.load_factor, chk, float(np.abs(raw.mechanism.w).max()))
                  and mismatch <= 1e-8 and support_w <= 1e-8)
         if best is None or (sound and (not best_sound or raw.load_factor < up_best)):
-            best, up_best, best_sound = (raw, mismatch, support_w), raw.load_factor, sound
+            best, up_best, best_sound = (raw, mismatch, support_w, mesh.nodes[active]), raw.load_factor, sound
         if lb is not None and (lower is None or (lo is not None and (lo_best is None or lo > lo_best))):
             lower, lo_best = lb, (lo if lo is not None else lo_best)
         prev = (mesh.nodes, len(mesh.nodes), active)
@@ -237,13 +251,13 @@ def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scal
             break
         marks = refinement_points(model, domain, raw.yield_lines, lb, field)
         field, milder = field.refined(marks, REFINE_FACTOR), field.refined(marks, np.sqrt(REFINE_FACTOR))
-    raw, mismatch, support_w = best
+    raw, mismatch, support_w, ends = best
     # Warnings about a missing lower bound belong to the step whose bound is kept.
     keep = [w for w in raw.warnings if not w.startswith("no lower bound")]
     if lower is not None and lower.load_factor is None:
         keep.append(f"no lower bound: {lower.reason}")
     raw = replace(raw, warnings=tuple(keep), lower_bound=None)
-    return raw, mismatch, support_w, lower, steps, stop, None if uniform else field
+    return raw, mismatch, support_w, lower, steps, stop, None if uniform else field, ends, admitted
 
 
 def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s: Scales, option: str,
@@ -253,7 +267,7 @@ def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s
     set (for messages). Returns (Result in those units, whose warnings are only those of the
     line search and the lower bound; largest disagreement between planes meeting at a vertex
     and largest |w| found on a supported edge, both relative to the largest |w|; node pairs
-    (k, 2) of the active lines)."""
+    (k, 2) of the active lines; how many `carried` pairs the first LP held)."""
     t0 = time.perf_counter()
     nodes = mesh.nodes
     source = candidate_source(nodes, domain, model)
@@ -290,7 +304,7 @@ def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s
             f"the search for yield lines stopped before proving that no other node-to-node line "
             f"lowers the load factor (largest violation {sol.max_violation:.1e}); a finer mesh "
             "may give a slightly lower load factor")
-    lb = _lower_bound(model, domain, mesh, float(lf), warnings) if lower_bound else None
+    lb = lower_bound_on_mesh(model, domain, mesh, float(lf), warnings) if lower_bound else None
     seconds = time.perf_counter() - t0
     slab_nodes = int(np.sum(shapely.intersects_xy(domain.slab, nodes[:, 0], nodes[:, 1])))
     stats = SolveStats(len(nodes), slab_nodes, sol.candidates, len(cand), sol.rounds,
@@ -302,65 +316,7 @@ def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s
                     tuple(warnings), lower_bound=lb)
     act = active_lines(theta)
     active = np.stack([cand.a[act], cand.b[act]], axis=1)
-    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300), active
-
-
-def _lower_bound(model, domain, mesh, upper: float, warnings: list[str]) -> LowerBound:
-    """Solve for the lower bound, re-check the field, and keep its load factor only if the
-    re-check passes (in equilibrium to EQUILIBRIUM_RTOL, inside the criterion). A field that
-    fails the re-check is solved for again with the next of SOLVER_SETTINGS, then all of them
-    again with another load unit; if none passes, the field in equilibrium that proves the
-    most (its load factor over its yield ratio) is kept, else the one closest to equilibrium."""
-    tried, seconds = [], 0.0
-    # The upper bound sets only the unit of the solver's load factor (of order one, like the
-    # moments); the field is proven by its re-check alone. Slabs without top bars beside a
-    # free edge were seen to pass or fail the re-check (yield ratio 1 - 1e-6 against 1.4 to 4)
-    # as the unit changed by 1e-13, so a second unit gives each setting another chance.
-    attempts = [(a, unit) for unit in (upper, 1.5 * upper) for a in range(len(SOLVER_SETTINGS))]
-    for attempt, unit in attempts:
-        sol = solve_lower_bound(model, domain, mesh.nodes, mesh.triangles, attempt, load_unit=unit)
-        seconds += sol.seconds
-        if sol.load_factor is None:
-            tried.append((sol, None))
-            if "Infeasible" in sol.status:
-                break
-            continue
-        chk = check_field(model, domain, sol.field, sol.load_factor)
-        tried.append((sol, chk))
-        if chk.in_equilibrium and chk.yield_ratio <= 1.0:
-            break
-    sol, chk = tried[-1]
-    if chk is None or not (chk.in_equilibrium and chk.yield_ratio <= 1.0):
-        held = any(not ld.factored for ld in model.loads)
-        balanced = [sc for sc in tried if sc[1] is not None and sc[1].in_equilibrium]
-        checked = [sc for sc in tried if sc[1] is not None]
-        if balanced and not held:
-            sol, chk = max(balanced, key=lambda sc: sc[0].load_factor / max(sc[1].yield_ratio, 1.0))
-        elif checked:
-            sol, chk = min(checked, key=lambda sc: sc[1].relative)
-        else:
-            sol, chk = tried[0]
-    if sol.load_factor is None:
-        reason = f"the lower-bound solver stopped with status '{sol.status}'"
-        if "Infeasible" in sol.status:
-            reason = ("no moment field on this mesh carries the held loads (scaled = false) within the capacities, "
-                      "so nothing can be proven even at load factor 0; a finer mesh may find one")
-        warnings.append(f"no lower bound: {reason}")
-        return LowerBound(None, None, None, None, sol.status, seconds, reason)
-    value, reason = sol.load_factor, ""
-    if not chk.in_equilibrium:
-        value, reason = None, (f"the moment field is out of equilibrium by {chk.relative:.1e} (relative) "
-                               "on re-check")
-    elif chk.yield_ratio > 1.0:
-        if any(not ld.factored for ld in model.loads):
-            value, reason = None, f"the moment field exceeds the capacities (ratio {chk.yield_ratio:.9f})"
-        else:
-            # Without held loads the field scaled by 1 / ratio is admissible for value / ratio.
-            value = sol.load_factor / chk.yield_ratio
-    if value is None:
-        warnings.append(f"no lower bound: {reason}")
-    log.info("lower bound %s (solver %.6f, %s, %.2f s)", value, sol.load_factor, sol.status, sol.seconds)
-    return LowerBound(value, sol.load_factor, sol.field, chk, sol.status, seconds, reason)
+    return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300), active, sol.carried
 
 
 def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None = None,
@@ -375,34 +331,65 @@ def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None 
     mesh sizes of the governing case (the size field, valid for any loads on the slab) and
     refine further only if their own bracket needs it, within what is left of the time limit.
     """
-    if not model.cases:
-        return solve(model, nodes, mesh_size, lower_bound, gap, time_limit)
+    return solve_carrying(model, nodes, mesh_size, lower_bound, gap, time_limit)[0]
+
+
+def solve_carrying(model: Model, nodes: int | None = None, mesh_size: float | None = None,
+                   lower_bound: bool = True, gap: float | None = None, time_limit: float | None = None,
+                   carried: tuple[np.ndarray, ...] | None = None) -> tuple[Result, tuple[np.ndarray, ...], int]:
+    """solve_cases, handing active lines between the solves of similar models (a study's
+    neighbouring variants). carried: per load case (in model order; one array when the model
+    has none), end points (k, 2, 2) in m of lines active in a similar model's mechanism; they
+    are mapped to the nearest nodes of this model's mesh and put in the first LP, where those
+    that are not admissible lines here are dropped. Returns (the result of solve_cases, this
+    model's active lines in the same form, how many carried lines the first LPs held).
+
+    Only on one uniform mesh: the LP's answer is its optimum over every admissible line, so the
+    carried lines change where the rounds start and not the load factor. Under adaptive
+    refinement they could change which vertex of a degenerate optimal face the first mesh
+    returns, hence where the next mesh refines and the answer: there `carried` is ignored and
+    no lines are returned.
+    """
     t0 = time.perf_counter()
     uniform, size, _ = mesh_plan(model, nodes, mesh_size)
-    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
-    cases = [(case.name, model_for_case(model, case)) for case in model.cases]
+    cases = [(case.name, model_for_case(model, case)) for case in model.cases] or [(None, model)]
+    carry = tuple(carried) if uniform and carried is not None and len(carried) == len(cases) else (None,) * len(cases)
     if uniform:
-        results = []
-        for name, m in cases:
-            log.info("load case %s", name)
-            results.append((name, solve(m, nodes, mesh_size, lower_bound, gap, time_limit)))
-    else:
-        first = []
-        for name, m in cases:
-            # Only the upper bound picks the governing case: no lower bound on this pass.
-            log.info("load case %s, first mesh", name)
-            first.append(solve(m, mesh_size=size, lower_bound=False).load_factor)
-        lead = int(np.argmin(first))
-        log.info("load case %s governs on the first mesh: refining it", cases[lead][0])
-        governing, field = _solve(cases[lead][1], None, None, lower_bound, gap, limit - (time.perf_counter() - t0))
-        results = []
-        for k, (name, m) in enumerate(cases):
-            if k == lead:
-                results.append((name, governing))
-                continue
-            log.info("load case %s, from the refined mesh of case %s", name, cases[lead][0])
-            left = max(limit - (time.perf_counter() - t0), 1e-3)
-            results.append((name, _solve(m, None, None, lower_bound, gap, left, start=field)[0]))
+        results, ends, admitted = [], [], 0
+        for (name, m), lines in zip(cases, carry):
+            if name is not None:
+                log.info("load case %s", name)
+            r, _, act, n_in = _solve(m, nodes, mesh_size, lower_bound, gap, time_limit, carried=lines)
+            results.append((name, r))
+            ends.append(act)
+            admitted += n_in
+        if not model.cases:
+            return results[0][1], tuple(ends), admitted
+        return _governing(results, lower_bound), tuple(ends), admitted
+    if not model.cases:
+        return solve(model, nodes, mesh_size, lower_bound, gap, time_limit), (), 0
+    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
+    first = []
+    for name, m in cases:
+        # Only the upper bound picks the governing case: no lower bound on this pass.
+        log.info("load case %s, first mesh", name)
+        first.append(solve(m, mesh_size=size, lower_bound=False).load_factor)
+    lead = int(np.argmin(first))
+    log.info("load case %s governs on the first mesh: refining it", cases[lead][0])
+    governing, field, _, _ = _solve(cases[lead][1], None, None, lower_bound, gap, limit - (time.perf_counter() - t0))
+    results = []
+    for k, (name, m) in enumerate(cases):
+        if k == lead:
+            results.append((name, governing))
+            continue
+        log.info("load case %s, from the refined mesh of case %s", name, cases[lead][0])
+        left = max(limit - (time.perf_counter() - t0), 1e-3)
+        results.append((name, _solve(m, None, None, lower_bound, gap, left, start=field)[0]))
+    return _governing(results, lower_bound), (), 0
+
+
+def _governing(results: list[tuple[str, Result]], lower_bound: bool) -> Result:
+    """The case with the lowest load factor, with the table of all cases and their lower bounds."""
     name, governing = min(results, key=lambda nr: nr[1].load_factor)
     table = tuple((n, r.load_factor) for n, r in results)
     lowers = tuple(r.lower_bound.load_factor if r.lower_bound else None for _, r in results) if lower_bound else ()

@@ -1,5 +1,6 @@
 """The same study solved in this process, by a local process pool and on a local Dask
-cluster gives the same figures (each variant is solved alone, wherever it runs)."""
+cluster gives the same figures (each variant is solved alone, wherever it runs); local workers
+start with one thread each."""
 from __future__ import annotations
 
 import pytest
@@ -55,3 +56,32 @@ def test_unreachable_scheduler(tmp_path, capsys, monkeypatch):
     err = capsys.readouterr().err
     assert "--scheduler tcp://127.0.0.1:9" in err and "Traceback" not in err
     assert not (tmp_path / "out").exists()
+
+
+def _thread_settings() -> dict:
+    import os
+    return {k: os.environ.get(k) for k in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")}
+
+
+def test_workers_start_with_one_thread_each(monkeypatch):
+    """Local workers are started with one BLAS/OpenMP thread each; this process's own
+    environment is as it was afterwards."""
+    import multiprocessing
+    import os
+    from concurrent.futures import ProcessPoolExecutor
+
+    from hingeline.study import run
+
+    monkeypatch.setenv("OPENBLAS_NUM_THREADS", "7")
+    monkeypatch.delenv("OMP_NUM_THREADS", raising=False)
+    with run._worker_environment():
+        with ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("spawn")) as pool:
+            seen = pool.submit(_thread_settings).result()
+    assert seen == {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREADS": "1"}
+    assert os.environ["OPENBLAS_NUM_THREADS"] == "7" and "OMP_NUM_THREADS" not in os.environ
+
+
+def test_highs_runs_one_thread():
+    from hingeline.upper.lp import _new_model, _option
+    assert _option(_new_model(3, ipm=True), "threads") == 1
+    assert _option(_new_model(3, ipm=False), "threads") == 1

@@ -32,6 +32,9 @@ def add_args(parser: argparse.ArgumentParser) -> None:
                         help="local worker processes (default: all cores; 1 solves in this process)")
     add_mesh_args(parser, "every variant")
     parser.add_argument("--no-lower-bound", action="store_true", help="solve the upper bound only")
+    parser.add_argument("--no-reuse", action="store_true",
+                        help="solve each variant from scratch instead of starting its first LP from the active "
+                             "lines of a solved neighbour (the load factors are the same; for comparing speed)")
     parser.add_argument("--drawings", action="store_true",
                         help="also draw each variant (pattern.png, deflection.png) in its folder")
     parser.add_argument("--scheduler", default=None, metavar="ADDRESS",
@@ -79,7 +82,7 @@ def run(args: argparse.Namespace) -> int:
     study = read_study(args.study)
     plan = build_variants(study)
     options = SolveOptions(nodes=args.nodes, mesh_size=args.mesh_size, gap=args.gap, time_limit=args.time_limit,
-                           lower_bound=not args.no_lower_bound, drawings=args.drawings)
+                           lower_bound=not args.no_lower_bound, drawings=args.drawings, reuse=not args.no_reuse)
     report.check_outdir(args.outdir)
     client = connect(args.scheduler) if args.scheduler else None
     print(f"{len(plan.variants)} variants, {len(plan.skipped)} positions skipped", file=sys.stderr)

@@ -279,6 +279,10 @@ def solve_lower_bound(model: Model, domain: Domain, nodes: np.ndarray, triangles
     cost[prob.lam] = -1.0
     settings = clarabel.DefaultSettings()
     settings.verbose = False
+    # One thread: only a threaded linear solver would use more, and a parallel study runs one
+    # worker process per core.
+    if hasattr(settings, "max_threads"):
+        settings.max_threads = 1
     for key, value in SOLVER_SETTINGS[attempt].items():
         setattr(settings, key, value)
     sol = clarabel.DefaultSolver(sparse.csc_matrix((ncol, ncol)), cost, A, b, cones, settings).solve()

@@ -6,6 +6,7 @@ Stages, one module each:
 - `file.py`     read and validate the study file (TOML) -> `Study`
 - `paths.py`    plain paths ("load.imposed.value") to numeric values of a model's data
 - `variants.py` grid positions, skip reasons (shapely predicates), the variant model data
+- `order.py`    the order variants are solved in, each after a solved neighbour whose lines it reuses
 - `run.py`      fingerprints, the resume store, local or Dask execution -> `Row`s
 - `outputs.py`  study.csv, map.png, line plots and study.html (Jinja2 template)
 

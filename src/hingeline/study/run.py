@@ -6,6 +6,22 @@ runs unchanged in a worker process or on a remote Dask worker (which needs hinge
 installed); it returns the files to store and the figures of the CSV row, and this process
 writes them, so a remote worker needs no access to OUTDIR.
 
+Reuse. On one uniform mesh (nodes or mesh_size, from the options or the model), each
+variant also returns the end points (m) of its mechanism's active lines, and this process
+hands them to the next variant it submits: order.py picks the waiting variant nearest to
+the one just solved and the nearest solved variant's lines, which go into the first LP of
+its solve (solve.py `solve_carrying`). Only the speed changes: the LP stops only when
+pricing proves its optimum over every admissible line. Under adaptive refinement nothing is
+handed on (the first mesh's vertex steers the refinement). The fingerprint does not cover
+reuse, so a study resumes either way.
+
+Threads. Local workers are separate processes started (spawn) with OMP_NUM_THREADS,
+OPENBLAS_NUM_THREADS, MKL_NUM_THREADS and RAYON_NUM_THREADS set to 1 (WORKER_THREADS):
+the workers are the parallelism, and threaded BLAS inside each of them competed for the
+same cores (demo at 150 nodes, writing one variant's result: 2.7 to 4.4 s of CPU with
+OpenBLAS's default threads, 1.5 to 1.8 s with one). HiGHS (upper/lp.py) and Clarabel (lower/program.py) are
+set to one thread everywhere.
+
 Units: m for positions, seconds for times; load factors are dimensionless.
 May import: `hingeline.solve`, `hingeline.model`, `hingeline.outputs`, `hingeline.errors`,
 the other study modules; dask.distributed only inside `connect` (an optional extra).
@@ -13,19 +29,22 @@ the other study modules; dask.distributed only inside `connect` (an optional ext
 from __future__ import annotations
 
 import logging
+import multiprocessing
 import os
 import tempfile
 import time
-from concurrent.futures import ProcessPoolExecutor, as_completed
+from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
+from contextlib import contextmanager
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Callable, Iterator
 
 from ..errors import SolverError, UnstableSlabError
 from ..model import model_from_toml
-from ..solve import solve_cases
+from ..solve import solve_carrying
 from .file import Study, StudyError
+from .order import Order, places
 from .store import Store, fingerprint, to_toml
 from .variants import Plan, Variant
 
@@ -35,15 +54,19 @@ SOLVED = "solved"
 #: How long to wait for a Dask scheduler to answer before giving up.
 CONNECT_TIMEOUT = "10s"
 CLUSTER_HINT = "install the cluster extra: pip install 'hingeline[cluster]'"
+#: The environment of local worker processes: one thread each in BLAS, OpenMP and Rayon.
+WORKER_THREADS = {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREADS": "1",
+                  "RAYON_NUM_THREADS": "1"}
 
 
 @dataclass(frozen=True)
 class SolveOptions:
     """How every variant is solved (hingeline.solve_cases): nodes (one uniform mesh of about
     that many nodes) or mesh_size in m, else refinement to gap within time_limit s (None: the
-    model's), lower_bound on or off; drawings:
-    also store pattern.png, mechanism.png, deflection.png (and utilisation.png) per variant (not part of the
-    fingerprint: it changes no figure)."""
+    model's), lower_bound on or off. Not part of the fingerprint, as they change no load
+    factor: drawings, also store pattern.png, mechanism.png, deflection.png (and
+    utilisation.png) per variant; reuse, start each variant from a solved neighbour's
+    active lines (on one uniform mesh only)."""
 
     nodes: int | None = None
     mesh_size: float | None = None
@@ -51,11 +74,13 @@ class SolveOptions:
     time_limit: float | None = None
     lower_bound: bool = True
     drawings: bool = False
+    reuse: bool = True
 
     def solve_dict(self) -> dict:
         """The options that change a result (those the fingerprint covers)."""
         d = asdict(self)
         d.pop("drawings")
+        d.pop("reuse")
         return d
 
 
@@ -83,19 +108,24 @@ class Row:
     reused: bool = False
 
 
-def solve_variant(model_text: str, options: SolveOptions) -> dict:
+def solve_variant(model_text: str, options: SolveOptions, carried: tuple | None = None) -> dict:
     """Solve one variant given as model TOML text; return {"status", "seconds", "load_factor",
-    "lower_bound", "gap", "files": {name: bytes}} ("files" empty unless solved). A slab that
-    is unstable or a solver failure gives status "failed: <message>" instead of raising."""
+    "lower_bound", "gap", "files": {name: bytes}, "lines", "carried_lines", "lp_rounds"}
+    ("files" empty unless solved). carried: a solved neighbour's "lines" (the end points, m,
+    of its active lines per load case) for the first LP; "lines": this variant's, None when
+    there is nothing to hand on (reuse off, refinement, failure); "carried_lines": how many
+    carried lines its first LPs held. A slab that is unstable or a solver failure gives
+    status "failed: <message>" instead of raising."""
     from ..outputs.result_json import write_outputs
 
     model = model_from_toml(model_text, "variant model")
     t0 = time.perf_counter()
     try:
-        result = solve_cases(model, options.nodes, options.mesh_size, options.lower_bound, options.gap,
-                             options.time_limit)
+        result, lines, n_carried = solve_carrying(model, options.nodes, options.mesh_size, options.lower_bound,
+                                                  options.gap, options.time_limit,
+                                                  carried if options.reuse else None)
     except (UnstableSlabError, SolverError) as exc:
-        return {"status": f"failed: {exc}", "seconds": time.perf_counter() - t0, "files": {}}
+        return {"status": f"failed: {exc}", "seconds": time.perf_counter() - t0, "files": {}, "lines": None}
     seconds = time.perf_counter() - t0
     with tempfile.TemporaryDirectory(prefix="hingeline-variant-") as tmp:
         paths = write_outputs(result, tmp, formats=("png",) if options.drawings else ())
@@ -103,7 +133,9 @@ def solve_variant(model_text: str, options: SolveOptions) -> dict:
     lb = result.lower_bound.load_factor if result.lower_bound is not None else None
     return {"status": SOLVED, "seconds": seconds, "load_factor": float(result.load_factor),
             "lower_bound": None if lb is None else float(lb),
-            "gap": None if result.gap is None else float(result.gap), "files": files}
+            "gap": None if result.gap is None else float(result.gap), "files": files,
+            "lines": lines if options.reuse and lines else None, "carried_lines": n_carried,
+            "lp_rounds": result.stats.rounds}
 
 
 def connect(address: str):
@@ -131,7 +163,8 @@ def _record(study: Study, v: Variant, fp: str, outcome: dict, options: SolveOpti
     return {"fingerprint": fp, "x": v.x, "y": v.y, "scale": v.scale,
             "values": {s.key: val for s, val in zip(study.sweeps, v.values)},
             "solve": options.solve_dict(),
-            **{k: outcome.get(k) for k in ("status", "seconds", "load_factor", "lower_bound", "gap")}}
+            **{k: outcome.get(k) for k in ("status", "seconds", "load_factor", "lower_bound", "gap",
+                                           "carried_lines", "lp_rounds")}}
 
 
 def _row(v: Variant, fp: str, rec: dict, reused: bool) -> Row:
@@ -139,34 +172,93 @@ def _row(v: Variant, fp: str, rec: dict, reused: bool) -> Row:
                rec.get("seconds"), rec["status"], fp if rec["status"] == SOLVED else "", reused)
 
 
-def _local(tasks: list[tuple[str, str]], options: SolveOptions, jobs: int) -> Iterator[tuple[str, dict]]:
+@contextmanager
+def _worker_environment():
+    """WORKER_THREADS set in this process's environment while it starts workers (they inherit
+    it, and read it when they import numpy); the previous values restored after."""
+    saved = {k: os.environ.get(k) for k in WORKER_THREADS}
+    os.environ.update(WORKER_THREADS)
+    try:
+        yield
+    finally:
+        for k, v in saved.items():
+            if v is None:
+                os.environ.pop(k, None)
+            else:
+                os.environ[k] = v
+
+
+def _ordered(tasks: list[tuple[str, str]], where, slots: int, submit, first_done):
+    """(fingerprint, outcome) of every task (fingerprint, model text), solved in the order of
+    order.py (`where`: the places of the tasks), `slots` at a time through
+    submit(task, lines) -> future and first_done(futures) -> the done ones."""
+    order = Order(where)
+    running = {}
+
+    def start(pick) -> None:
+        if pick is not None:
+            k, lines = pick
+            running[submit(tasks[k], lines)] = k
+
+    for _ in range(min(slots, len(tasks))):
+        start(order.take())
+    while running:
+        for future in first_done(list(running)):
+            k = running.pop(future)
+            outcome = future.result()
+            order.solved(k, outcome.pop("lines", None))
+            start(order.take(k))
+            yield tasks[k][0], outcome
+
+
+class _Here:
+    """The 'future' of a variant solved in this process: solved when its result is asked for
+    (so that each variant is stored before the next is solved)."""
+
+    def __init__(self, text: str, options: SolveOptions, lines):
+        self.args = (text, options, lines)
+
+    def result(self) -> dict:
+        return solve_variant(*self.args)
+
+
+def _local(tasks: list[tuple[str, str]], where, options: SolveOptions, jobs: int) -> Iterator[tuple[str, dict]]:
     if jobs == 1:
-        for fp, text in tasks:
-            yield fp, solve_variant(text, options)
+        yield from _ordered(tasks, where, 1, lambda task, lines: _Here(task[1], options, lines),
+                            lambda futures: futures)
         return
-    pool = ProcessPoolExecutor(max_workers=jobs)
+    with _worker_environment():
+        pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"))
+        try:
+            yield from _ordered(tasks, where, jobs,
+                                lambda task, lines: pool.submit(solve_variant, task[1], options, lines),
+                                lambda futures: wait(futures, return_when=FIRST_COMPLETED).done)
+        except BrokenProcessPool:
+            raise SolverError("a worker process stopped unexpectedly (out of memory? or, from a script, run_study "
+                              "called outside `if __name__ == \"__main__\":`); run the study again to resume, "
+                              "perhaps with fewer --jobs") from None
+        finally:
+            # An interrupted study stops at once; the variants done so far are stored.
+            pool.shutdown(wait=False, cancel_futures=True)
+
+
+def _dask(tasks: list[tuple[str, str]], where, options: SolveOptions, client) -> Iterator[tuple[str, dict]]:
+    from dask.distributed import wait as dask_wait
+
+    submitted = []
+
+    def submit(task, lines):
+        fp, text = task
+        submitted.append(client.submit(solve_variant, text, options, lines, key=f"hingeline-variant-{fp}",
+                                       pure=False))
+        return submitted[-1]
+
+    slots = max(1, sum(client.nthreads().values()))
     try:
-        futures = {pool.submit(solve_variant, text, options): fp for fp, text in tasks}
-        for future in as_completed(futures):
-            yield futures[future], future.result()
-    except BrokenProcessPool:
-        raise SolverError("a worker process stopped unexpectedly (out of memory?); run the study again "
-                          "to resume, perhaps with fewer --jobs") from None
+        yield from _ordered(tasks, where, slots, submit,
+                            lambda futures: dask_wait(futures, return_when="FIRST_COMPLETED").done)
     finally:
-        # An interrupted study stops at once; the variants done so far are stored.
-        pool.shutdown(wait=False, cancel_futures=True)
-
-
-def _dask(tasks: list[tuple[str, str]], options: SolveOptions, client) -> Iterator[tuple[str, dict]]:
-    from dask.distributed import as_completed as dask_completed
-
-    futures = {client.submit(solve_variant, text, options, key=f"hingeline-variant-{fp}", pure=False): fp
-               for fp, text in tasks}
-    try:
-        for future in dask_completed(list(futures)):
-            yield futures[future], future.result()
-    finally:
-        client.cancel(list(futures))
+        client.cancel(submitted)
 
 
 def run_study(study: Study, plan: Plan, options: SolveOptions, outdir: str | os.PathLike,
@@ -193,10 +285,11 @@ def run_study(study: Study, plan: Plan, options: SolveOptions, outdir: str | os.
             todo[fp] = (v, to_toml(v.model, _header(study, v)))
     log.info("%d variants: %d done before, %d to solve", len(keyed), len(rows), len(todo))
     tasks = [(fp, text) for fp, (_, text) in todo.items()]
+    where = places(study, [v for v, _ in todo.values()])
     if on_start is not None:
         on_start(list(rows.values()), len(tasks))
     jobs = jobs or os.cpu_count() or 1
-    results = _dask(tasks, options, client) if client is not None else _local(tasks, options, jobs)
+    results = _dask(tasks, where, options, client) if client is not None else _local(tasks, where, options, jobs)
     for n, (fp, outcome) in enumerate(results, start=1):
         v, text = todo[fp]
         rec = _record(study, v, fp, outcome, options)

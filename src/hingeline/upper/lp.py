@@ -63,7 +63,8 @@ class LPSolution:
     rounds: LP solves, each followed by a pricing pass over every candidate; candidates:
     how many admissible lines there are. max_violation: largest reduced-cost violation
     left at the last pass, per unit length and unit capacity (0 or below tol when the
-    optimum over all candidates is proven)."""
+    optimum over all candidates is proven). carried: how many of the carried node pairs
+    are lines of the first LP (the admissible ones)."""
 
     lines: LineSet
     theta: np.ndarray
@@ -71,6 +72,7 @@ class LPSolution:
     rounds: int
     candidates: int
     max_violation: float
+    carried: int = 0
 
 
 def _run_rounds(h):
@@ -179,13 +181,19 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
     and 8 per node: 5, 4 and 5 rounds, 14.2, 11.2 and 18.0 s in the LP; on the refined podium
     deck, 2 against 4: 10.6 against 8.1 s).
     carried: (c, 2) node pairs a < b also put in the first LP (the active lines of a coarser
-    mesh mapped to these nodes); those not admissible are dropped.
+    mesh, or of a similar model, mapped to these nodes); those not admissible are dropped.
+    They change only where the rounds start: the loop still stops only when pricing over
+    every admissible line proves the optimum.
     """
     n = source.n_nodes
     h = new_model(n, ipm=True, n_extra=source.n_extra)
     lines = _first_lines(source, np.asarray(initial), carried)
     batch = batch or max(BATCH_PER_NODE * n, 200)
     add_lines(h, lines, n, m_ref)
+    n_carried = 0
+    if carried is not None and len(carried):
+        keys = np.asarray(carried, np.int64)
+        n_carried = int(np.isin(np.unique(keys[:, 0] * n + keys[:, 1]), lines.keys(n)).sum())
     rounds = count = 0
     viol_max = np.inf
     while True:
@@ -209,5 +217,5 @@ def solve_lp(source: CandidateSource, initial: np.ndarray, m_ref: float, tol=1e-
         add_lines(h, new, n, m_ref)
         lines = concat([lines, new])
     theta = vertex_rotations(h, sol, obj, lines, n, m_ref, source.n_extra)
-    return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0))
+    return LPSolution(lines, theta, _true_objective(lines, theta), rounds, count, max(viol_max, 0.0), n_carried)
 
