@@ -82,6 +82,6 @@ def test_workers_start_with_one_thread_each(monkeypatch):
 
 
 def test_highs_runs_one_thread():
-    from hingeline.upper.lp import _new_model, _option
-    assert _option(_new_model(3, ipm=True), "threads") == 1
-    assert _option(_new_model(3, ipm=False), "threads") == 1
+    from hingeline.upper.highs import new_model, option
+    assert option(new_model(3, ipm=True), "threads") == 1
+    assert option(new_model(3, ipm=False), "threads") == 1
