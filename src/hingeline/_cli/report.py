@@ -43,8 +43,10 @@ def pattern_line(result: Result) -> str:
     how = (f"{pattern_how(cp)} from {load_factor_text(cp.clean_load_factor)}" if cp.optimised or cp.simplified
            else "as read")
     fans = f", {len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}" if cp.fans else ""
+    above = (f"; above the raw mechanism's {load_factor_text(cp.raw_load_factor)}, which governs"
+             if cp.above_raw else "")
     return (f"clean pattern: {len(cp.lines)} yield lines{fans}, {sum(not r.at_rest for r in cp.regions)} moving "
-            f"regions; load factor {load_factor_text(cp.load_factor)} ({how}; certified by the work equation)")
+            f"regions; load factor {load_factor_text(cp.load_factor)} ({how}; certified by the work equation{above})")
 
 
 def print_summary(result: Result, paths: list[Path], out=None) -> None:

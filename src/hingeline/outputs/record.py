@@ -165,7 +165,7 @@ def pattern_tables(model: Model, result: Result) -> dict | None:
     return {
         "raw": load_factor_text(cp.raw_load_factor, 4), "clean": load_factor_text(cp.clean_load_factor, 4),
         "load_factor": load_factor_text(cp.load_factor, 4), "optimised": cp.optimised or cp.simplified,
-        "how": pattern_how(cp),
+        "how": pattern_how(cp), "above_raw": cp.above_raw,
         "regions": [{"letter": letters[r.index] or "rest", "area": f"{r.area:.3f}", "axis": r.axis,
                      "deflection": f"{r.deflection:.3f}", "slope": f(r.slope),
                      "dissipation": f(r.dissipation), "scaled": f(r.scaled_work), "held": f(r.held_work)}

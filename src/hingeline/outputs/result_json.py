@@ -207,6 +207,7 @@ def pattern_to_dict(cp) -> dict | None:
         "clean_load_factor": _float(cp.clean_load_factor),
         "optimised": bool(cp.optimised),
         "simplified": bool(cp.simplified),
+        "above_raw": bool(cp.above_raw),
         "regions": regions,
         "at_rest": rest,
         "lines": [{"number": ln.number, "start": _floats(ln.start), "end": _floats(ln.end),

@@ -17,7 +17,9 @@ factor is always its own certificate's, never a number carried over from the raw
 On a fine mesh the pattern as read has many narrow regions (fans, slivers); it is then
 simplified (`simplify`: small regions merged into a neighbour) and optimised (`optimise`:
 junctions moved). Either makes a new mechanism, shown only once the hand check certifies
-it, never above the raw mechanism's load factor and never with more lines.
+it and never with more lines; an optimised pattern is never above the raw mechanism's load
+factor, a simplified one at most RISE_MAX above it and then marked so (`above_raw`): the
+raw mechanism's load factor is the answer either way.
 
 Units: m, rad, kNm; w m per kNm of factored-load work, positive downward.
 May import: `hingeline.model`, `hingeline.geometry`, `hingeline.upper`, `hingeline.check`,
@@ -43,7 +45,7 @@ from .layout import Layout, layout_junctions, layout_of, layout_regions
 from .optimise import TIME_BUDGET, optimise_layout
 from .tidy import TIDY_SETTINGS, tidy
 from .regions import Region, find_regions, thin_rings
-from .simplify import MERGE_AREAS, simplify_layout
+from .simplify import ABOVE_LINES, MERGE_AREAS, RISE_MAX, merge_groups, simplify_layout
 
 __all__ = ["CleanLine", "CleanPattern", "Fan", "Region", "clean_pattern", "optimise_pattern", "simplify_pattern"]
 
@@ -61,7 +63,7 @@ class CleanPattern:
         when the junctions were moved (`optimise`) and the certified load factor fell.
         simplified: True when small regions were merged into their neighbours
         (`simplify_pattern`); the pattern is then a mechanism of its own, certified like
-        any other and never above the raw mechanism.
+        any other, at most RISE_MAX above the raw mechanism (`above_raw` says when above).
     regions, names, rings: the regions, their names ("R1", ..., "rest 1", ...) and the
         rings written for them (exterior first, m; straight-through corners dropped).
     lines: straight yield lines, most work first; fans: points where many lines end.
@@ -83,6 +85,12 @@ class CleanPattern:
     optimised: bool = False
     simplified: bool = False
 
+    @property
+    def above_raw(self) -> bool:
+        """True for a simplified pattern whose certified load factor is above the raw
+        mechanism's (by at most RISE_MAX): readable, but not the governing upper bound."""
+        return self.simplified and self.load_factor > self.raw_load_factor
+
 
 def _checked(model: Model, regions, rings):
     """(text, HandCheck) of the regions written with `rings`; ModelError if the check refuses."""
@@ -97,20 +105,29 @@ def clean_pattern(model: Model, mech: Mechanism, raw_load_factor: float,
     """The clean pattern of `mech` (a mechanism of `model` with load factor `raw_load_factor`),
     or None (logged) when it cannot be read faithfully. With `optimise`, it is then
     simplified and optimised (`simplify_pattern`) or, failing that, optimised as it stands
-    (`optimise_pattern`); either replaces it only when its own certified load factor is not
-    above the raw mechanism's and it has fewer lines (simplified) or no more (optimised)."""
+    (`optimise_pattern`): either replaces it only with fewer lines (simplified) or no more
+    (optimised) and a certified load factor not above the raw mechanism's. A simplified
+    pattern up to RISE_MAX above it (`above_raw`) replaces that result only when it has at
+    most ABOVE_LINES of its lines."""
     cp = _read_pattern(model, mech, raw_load_factor)
     if cp is None or not optimise:
         return cp
-    for step in (simplify_pattern, optimise_pattern):
-        try:
-            better = step(model, cp)
-        except Exception as exc:  # noqa: BLE001 - both steps are optional; the clean pattern stands
-            log.info("pattern %s failed: %s: %s", step.__name__, type(exc).__name__, exc)
-            better = None
-        if better is not None:
-            return better
-    return cp
+    below, above = _guarded(simplify_pattern, model, cp) or (None, None)
+    shown = below or _guarded(optimise_pattern, model, cp) or cp
+    if above is not None and len(above.lines) <= ABOVE_LINES * len(shown.lines):
+        log.info("simplified pattern above the raw mechanism shown: %d lines against %d",
+                 len(above.lines), len(shown.lines))
+        return above
+    return shown
+
+
+def _guarded(step, model: Model, cp: CleanPattern):
+    """step(model, cp), or None (logged) should it fail: both steps are optional."""
+    try:
+        return step(model, cp)
+    except Exception as exc:  # noqa: BLE001 - the clean pattern as read stands
+        log.info("pattern %s failed: %s: %s", step.__name__, type(exc).__name__, exc)
+        return None
 
 
 @dataclass(frozen=True, eq=False)
@@ -185,43 +202,58 @@ def optimise_pattern(model: Model, cp: CleanPattern) -> CleanPattern | None:
     return _pattern_of(cand, cp, size, simplified=False, moved=True)
 
 
-def simplify_pattern(model: Model, cp: CleanPattern) -> CleanPattern | None:
+def simplify_pattern(model: Model, cp: CleanPattern) -> tuple[CleanPattern | None, CleanPattern | None]:
     """`cp` simplified (pattern/simplify.py: regions below each of MERGE_AREAS of the slab's
-    area merged, coarsest first) and then optimised: the first certified candidate with fewer
-    lines than cp whose load factor is not above the raw mechanism's (nor cp's), or None.
-    A simplified pattern is a mechanism in its own right, so it is kept as it stands when it
-    is already low enough, else only once optimised below that ceiling."""
+    area merged, coarsest first) and then optimised, each candidate certified by the hand
+    check: (the first with fewer lines than cp and a load factor not above the raw
+    mechanism's, the first with fewer lines found before it whose load factor is above that
+    by at most RISE_MAX), either None. A simplified pattern is a mechanism in its own right:
+    kept as it stands when low enough, else only once optimised below its ceiling. One above
+    the raw mechanism is an upper bound too, but a higher one: marked `above_raw`, the raw
+    mechanism's load factor staying the answer."""
     size = _size(model)
     lay = _layout_of_pattern(cp, size)
     ceiling = min(cp.load_factor, cp.raw_load_factor)
     slab_area = float(slab_region(model).area)
-    tried = set()
+    tried, above = set(), None
     for frac in MERGE_AREAS:
         try:
-            found = _simplified(model, cp, lay, size, slab_area, frac, ceiling, tried)
+            found = _simplified(model, cp, lay, size, slab_area, frac, ceiling, tried, above is None)
         except (ValueError, np.linalg.LinAlgError, shapely.errors.GEOSException) as exc:
             log.info("simplified pattern (%.3g of the slab's area merged) failed: %s", frac, exc)
             continue
-        if found is not None:
-            return found
-    return None
+        if found is None:
+            continue
+        if found.load_factor <= ceiling:
+            return found, above
+        above = found
+    return None, above
 
 
-def _simplified(model, cp, lay, size, slab_area, frac, ceiling, tried) -> CleanPattern | None:
+def _simplified(model, cp, lay, size, slab_area, frac, ceiling, tried, rise: bool) -> CleanPattern | None:
     """One candidate of `simplify_pattern`: `lay` with regions below `frac` of the slab's area
-    merged; None when it is no new candidate or none of its forms passes."""
-    simple = simplify_layout(model, lay, size, slab_area, frac)
-    if simple is None or len(simple.rings) in tried:
+    merged, with fewer lines than cp and a load factor not above `ceiling` (by RISE_MAX when
+    `rise`); None when it is no new candidate or none of its forms passes."""
+    group = merge_groups(lay, slab_area, frac)
+    key = tuple(group)
+    if key in tried:
         return None
-    tried.add(len(simple.rings))
+    tried.add(key)
+    simple = simplify_layout(model, lay, size, group)
+    if simple is None:
+        return None
+    top = ceiling * (1.0 + RISE_MAX) if rise else ceiling
     cand = _certified(model, simple, size)
     if cand is not None:
         log.info("simplified pattern (%.3g of the slab's area merged): %d regions, %d lines, load factor %.9g",
                  frac, len(cand.regions), len(cand.lines), cand.check.load_factor)
-        if cand.check.load_factor <= ceiling and len(cand.lines) < len(cp.lines):
+        if cand.check.load_factor <= top and len(cand.lines) < len(cp.lines):
             better = _search(model, simple, size, cand.check.load_factor, len(cand.lines))
+            if better is None and cand.check.load_factor > ceiling:
+                # Not low enough as it stands: perhaps once optimised.
+                better = _search(model, simple, size, ceiling, len(cp.lines) - 1)
             return _pattern_of(better or cand, cp, size, simplified=True, moved=better is not None)
-    better = _search(model, simple, size, ceiling, len(cp.lines) - 1)
+    better = _search(model, simple, size, top, len(cp.lines) - 1)
     return None if better is None else _pattern_of(better, cp, size, simplified=True, moved=True)
 
 
