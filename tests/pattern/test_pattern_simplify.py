@@ -89,6 +89,11 @@ def test_three_simple_edges_and_a_free_one_at_450_nodes_reads_as_johansens_three
     data["pattern"]["above_raw"] = False
     v = verify_result(res.model, data)
     assert not v.ok and any("above the raw mechanism" in e for e in v.stored_errors)
+    # The record gives both load factors to enough digits to tell them apart.
+    from hingeline.outputs.record import pattern_tables
+
+    tables = pattern_tables(res.model, res)
+    assert tables["above_raw"] and tables["raw"] != tables["load_factor"]
 
 
 def test_a_pattern_above_the_raw_mechanism_says_so_on_the_plan():

@@ -173,12 +173,12 @@ def plot_clean_pattern(result: Result, ax: Axes | None = None, pattern=None) -> 
     raw = cp.raw_load_factor
     how = pattern_how(cp)
     # A simplified pattern above the raw mechanism is a readable upper bound, not the answer.
-    versus = (f" ABOVE the raw mechanism's {raw:.6g}, which governs" if cp.above_raw
-              else f" (raw mechanism {raw:.4g})")
     lf = f"{cp.load_factor:.6g}" if cp.above_raw else f"{cp.load_factor:.4g}"
     title = (f"{result.model.title or 'Untitled model'}\nclean pattern ({how}): load factor = {lf}"
-             f"{versus}; {len(lines)} line{'s' if len(lines) != 1 else ''}, "
+             f"{'' if cp.above_raw else f' (raw mechanism {raw:.4g})'}; {len(lines)} line{'s' if len(lines) != 1 else ''}, "
              f"{len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}")
+    if cp.above_raw:
+        title += f"\nABOVE the raw mechanism's {raw:.6g}, which governs"
     ax.set_title(title, fontsize=9)
     handles = []
     if any(ln.sense == "sagging" for ln in lines):
