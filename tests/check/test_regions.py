@@ -88,3 +88,25 @@ def test_hole_left_empty_named():
     with pytest.raises(ModelError) as err:
         check_pattern(_strip(), pattern_from_toml(STRIP.format(holes=holes)))
     assert "covered by no region" in str(err.value) and "0.16 m2" in str(err.value)
+
+
+def test_a_tiny_region_is_a_region():
+    # A sliver of 5e-9 m2 (below 1e-8 of the slab, above 1e-10) cut from the south triangle
+    # of the simply supported square's diagonal pattern and moving with it: still the two
+    # diagonals, 24 m / L^2 (simply supported isotropic square, exact). A raw mechanism on a
+    # fine mesh reads as such regions, one tiny triangle each.
+    a, e = 1e-3, 5e-6
+    tip = (0.5 - a / 2 + e, 0.5 - a / 2 - e)
+    text = diagonal().replace(
+        "polygon = [[0, 0], [1, 0], [0.5, 0.5]]",
+        f"polygon = [[0, 0], [1, 0], [0.5, 0.5], [{tip[0]!r}, {tip[1]!r}], [{0.5 - a!r}, {0.5 - a!r}]]")
+    text += f"""
+[[region]]
+name = "sliver"
+polygon = [[{0.5 - a!r}, {0.5 - a!r}], [{tip[0]!r}, {tip[1]!r}], [0.5, 0.5]]
+axis = [[0, 0], [1, 0]]
+point = [0.5, 0.5]
+deflection = 1.0
+"""
+    hc = check_pattern(SIMPLE_SQUARE, pattern_from_toml(text), optimise=False)
+    assert hc.load_factor == pytest.approx(24.0, rel=1e-9)

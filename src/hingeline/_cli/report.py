@@ -34,16 +34,19 @@ def check_outdir(outdir: Path) -> None:
 
 def pattern_line(result: Result) -> str:
     """The clean pattern in one line: its lines and fans and its certified load factor."""
+    from ..outputs.pattern_plan import pattern_how
     from ..outputs.result_json import clean_pattern_of
 
     cp = clean_pattern_of(result)
     if cp is None:
         return "the mechanism reads as no clean pattern; see mechanism.png"
-    how = (f"optimised from {load_factor_text(cp.clean_load_factor)}" if cp.optimised
+    how = (f"{pattern_how(cp)} from {load_factor_text(cp.clean_load_factor)}" if cp.optimised or cp.simplified
            else "as read")
     fans = f", {len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}" if cp.fans else ""
+    above = (f"; above the raw mechanism's {load_factor_text(cp.raw_load_factor)}, which governs"
+             if cp.above_raw else "")
     return (f"clean pattern: {len(cp.lines)} yield lines{fans}, {sum(not r.at_rest for r in cp.regions)} moving "
-            f"regions; load factor {load_factor_text(cp.load_factor)} ({how}; certified by the work equation)")
+            f"regions; load factor {load_factor_text(cp.load_factor)} ({how}; certified by the work equation{above})")
 
 
 def print_summary(result: Result, paths: list[Path], out=None) -> None:

@@ -118,7 +118,10 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
     pts = np.array([[e.value(params) for e in p] for p in spec.polygon])
     holes = [np.array([[e.value(params) for e in p] for p in ring]) for ring in spec.holes]
     poly = Polygon(pts, holes)
-    if not poly.is_valid or poly.area <= tol_area:
+    # A region only has to have an area: gaps and overlaps below tol_area are round-off, but a
+    # region drawn that small is meant (a raw mechanism on a fine mesh has regions of one tiny
+    # triangle), and the work equation on its triangles is exact all the same.
+    if not poly.is_valid or poly.area <= 1e-2 * tol_area:
         raise ModelError(f"{where}.polygon: not a simple polygon with positive area "
                          f"(at {fmt_params(params)}); list its corners once around, without crossings")
     outside = poly.difference(Polygon(model.slab.outline))
@@ -129,7 +132,7 @@ def _region_shape(model: Model, spec: RegionSpec, params: Mapping[str, float], s
     if clipped.geom_type == "GeometryCollection":
         # Clipping along a face that meets the outline can leave stray points and lines.
         clipped = shapely.union_all([g for g in shapely.get_parts(clipped) if g.geom_type == "Polygon"])
-    if clipped.area <= tol_area:
+    if clipped.area <= 1e-2 * tol_area:
         raise ModelError(f"{where}.polygon: lies wholly in an opening; remove the region")
     return clipped
 

@@ -106,6 +106,13 @@ def _text(ax, xy, label, gid, size=6.0, bold=False):
                   "linewidth": 0.4, "alpha": 0.9})
 
 
+def pattern_how(cp) -> str:
+    """How the pattern shown came from the mechanism: "as read", "optimised", "simplified"
+    (small regions merged) or "simplified and optimised"."""
+    return {(False, False): "as read", (False, True): "optimised", (True, False): "simplified",
+            (True, True): "simplified and optimised"}[(bool(cp.simplified), bool(cp.optimised))]
+
+
 def plot_clean_pattern(result: Result, ax: Axes | None = None, pattern=None) -> Axes:
     """Draw the plan of the clean pattern `pattern` of `result` (see the module docstring);
     the raw plan when `pattern` is None. Returns the Axes; never shows."""
@@ -164,10 +171,14 @@ def plot_clean_pattern(result: Result, ax: Axes | None = None, pattern=None) -> 
         _text(ax, mid, str(n), LINE_LABEL_GID)
     set_plan_limits(ax, lo, hi, size)
     raw = cp.raw_load_factor
-    how = "optimised" if cp.optimised else "as read"
-    title = (f"{result.model.title or 'Untitled model'}\nclean pattern ({how}): load factor = {cp.load_factor:.4g}"
-             f" (raw mechanism {raw:.4g}); {len(lines)} line{'s' if len(lines) != 1 else ''}, "
+    how = pattern_how(cp)
+    # A simplified pattern above the raw mechanism is a readable upper bound, not the answer.
+    lf = f"{cp.load_factor:.6g}" if cp.above_raw else f"{cp.load_factor:.4g}"
+    title = (f"{result.model.title or 'Untitled model'}\nclean pattern ({how}): load factor = {lf}"
+             f"{'' if cp.above_raw else f' (raw mechanism {raw:.4g})'}; {len(lines)} line{'s' if len(lines) != 1 else ''}, "
              f"{len(cp.fans)} fan{'s' if len(cp.fans) != 1 else ''}")
+    if cp.above_raw:
+        title += f"\nABOVE the raw mechanism's {raw:.6g}, which governs"
     ax.set_title(title, fontsize=9)
     handles = []
     if any(ln.sense == "sagging" for ln in lines):

@@ -113,8 +113,10 @@ def _drawings(result: Result) -> tuple[list[dict], dict | None]:
                     _figure_svg(lambda r, ax: plot.plot_clean_pattern(r, ax=ax, pattern=cp), result),
                     "The mechanism read as rigid regions (lettered A, B, ... as in the region table) and "
                     "straight yield lines (numbered as in the line table of the clean pattern)"
-                    + (", its junctions moved to lower the load factor and the result certified by the "
-                       "work equation" if cp.optimised else "") + "."))
+                    + (", its small regions merged into their neighbours" if cp.simplified else "")
+                    + (", its junctions moved to lower the load factor" if cp.optimised else "")
+                    + (" and the result certified by the work equation" if cp.optimised or cp.simplified
+                       else "") + "."))
     out += [("Yield-line pattern of the raw mechanism (plan)", _figure_svg(plot.plot_pattern, result),
             "Sagging yield lines solid dark red, hogging dash-dot dark blue, hogging hinges along supports "
             "dashed just inside them; line weight grows with rotation. The lines that make 95 % of the "
@@ -145,7 +147,7 @@ def pattern_tables(model: Model, result: Result) -> dict | None:
     slope, dissipation, external work), totals, load factors (raw, clean, optimised) and its
     lines by number; None when the mechanism reads as no clean pattern."""
     from ..pattern.table import region_rows
-    from .pattern_plan import labelled_items, region_letters
+    from .pattern_plan import labelled_items, pattern_how, region_letters
     from .result_json import clean_pattern_of
 
     cp = clean_pattern_of(result)
@@ -160,9 +162,14 @@ def pattern_tables(model: Model, result: Result) -> dict | None:
     def f(x, digits=4):
         return "0" if abs(x) <= 1e-9 * scale else f"{x:.{digits}g}"
 
+    # Above the raw mechanism by at most 0.1 %: four digits would show the two as equal.
+    digits = 6 if cp.above_raw else 4
+    steps = [text for text, done in (("small regions merged into their neighbours", cp.simplified),
+                                     ("junctions moved to lower the load factor", cp.optimised)) if done]
     return {
-        "raw": load_factor_text(cp.raw_load_factor, 4), "clean": load_factor_text(cp.clean_load_factor, 4),
-        "load_factor": load_factor_text(cp.load_factor, 4), "optimised": cp.optimised,
+        "raw": load_factor_text(cp.raw_load_factor, digits), "clean": load_factor_text(cp.clean_load_factor, digits),
+        "load_factor": load_factor_text(cp.load_factor, digits), "optimised": cp.optimised or cp.simplified,
+        "how": pattern_how(cp), "steps": ", then ".join(steps), "above_raw": cp.above_raw,
         "regions": [{"letter": letters[r.index] or "rest", "area": f"{r.area:.3f}", "axis": r.axis,
                      "deflection": f"{r.deflection:.3f}", "slope": f(r.slope),
                      "dissipation": f(r.dissipation), "scaled": f(r.scaled_work), "held": f(r.held_work)}

@@ -206,6 +206,8 @@ def pattern_to_dict(cp) -> dict | None:
         "raw_load_factor": _float(cp.raw_load_factor),
         "clean_load_factor": _float(cp.clean_load_factor),
         "optimised": bool(cp.optimised),
+        "simplified": bool(cp.simplified),
+        "above_raw": bool(cp.above_raw),
         "regions": regions,
         "at_rest": rest,
         "lines": [{"number": ln.number, "start": _floats(ln.start), "end": _floats(ln.end),

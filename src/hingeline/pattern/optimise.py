@@ -204,6 +204,11 @@ def optimise_layout(model: Model, lay: Layout, size: float, budget: float = TIME
                                     {"type": "ineq", "fun": ineq, "jac": ineqjac}],
                        callback=callback, options={"maxiter": SLSQP_MAX_ITER, "ftol": 1e-10})
         z = res.x
+        if res.status == 6:
+            # SLSQP stops on a singular subproblem (redundant compatibility rows, as where a
+            # merged region leaves two lines ending at one point); SLP's LPs do not mind them.
+            log.info("pattern optimisation: SLSQP stopped (%s); SLP takes over", res.message)
+            raise _UseSLP
     except _UseSLP:
         z = _slp(f, fjac, eq, eqjac, ineq, ineqjac, z0, prob.bounds(z0), prob, start + budget)
         callback_free = f(z)

@@ -119,14 +119,18 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
     return _restore(prob, out)
 
 
-def _restore(prob: _Problem, lay: Layout) -> Layout | None:
+def _restore(prob: _Problem, lay: Layout, unfolded: bool = False) -> Layout | None:
     """The layout made exactly compatible by alternating projections: the planes projected
     onto the compatible motions of the current points, then each movable point put where its
     regions' planes meet (least squares), until the planes fit to RESTORE_TOL of the largest
-    w (the hand check allows 1e-8)."""
+    w (the hand check allows 1e-8). With `unfolded`, None as soon as a region's exterior
+    turns over (such a layout is refused anyway, and the projections are what costs)."""
     P = lay.points.copy()
     cur = lay
     for it in range(60):
+        if unfolded and it and min(_signed_area(P[rr[0]]) for rr in lay.rings) <= 0:
+            log.info("simplified pattern: a region turns over while the planes are made to fit")
+            return None
         planes = _project(prob, cur, rtol=1e-12 if it > 40 else 1e-7)
         if planes is None:
             return None
@@ -280,7 +284,8 @@ def _project(prob: _Problem, lay: Layout, rtol: float = 1e-10) -> np.ndarray | N
     # Scale columns so that the plane coefficients weigh alike (c0 ~ w, c1, c2 ~ w / size).
     s = np.tile([1.0, 1.0 / prob.size, 1.0 / prob.size], len(mv))
     As = A * s
-    _, sv, vt = np.linalg.svd(As)
+    # U is not needed; without it the SVD of a tall matrix costs a fraction of the full one.
+    _, sv, vt = np.linalg.svd(As, full_matrices=As.shape[0] < As.shape[1])
     rank = int(np.sum(sv > rtol * sv[0]))
     if rank == As.shape[1] and sv[-1] <= NEAR_RTOL * sv[0]:
         rank -= 1          # nearly compatible: the closest motion, and the points follow it
