@@ -33,14 +33,7 @@ class _Problem:
         P = lay.points
         tol = 1e-7 * size
         self.origin = P.min(axis=0)
-        # Boundary segments: outline, openings, ground supports' faces.
-        segs = [np.stack([model.slab.outline, np.roll(model.slab.outline, -1, axis=0)], axis=1)]
-        segs += [np.stack([np.asarray(h), np.roll(np.asarray(h), -1, axis=0)], axis=1) for h in model.slab.openings]
-        for sp in ground(model):
-            for part in getattr(sp.polygon, "geoms", [sp.polygon]):
-                ring = np.asarray(part.exterior.coords)
-                segs.append(np.stack([ring[:-1], ring[1:]], axis=1))
-        segs = np.concatenate(segs)
+        segs = boundary_segments(model)
         dist, t = _seg_dist(P, segs)
         on = dist <= tol
         end = on & ((t <= 1e-9) | (t >= 1 - 1e-9))
@@ -207,13 +200,18 @@ class _Problem:
             ok = cols >= j
             grad[np.flatnonzero(ok), cols[ok]] += vec[ok, j] / self._cscale()[j]
 
-    def _sides(self, P, a, b, dg, caps, hog_only):
-        """Work of sides a -> b with slope jump dg (k, 2) and its derivatives by u = perp(b - a)
-        and by dg. Sign convention: theta L = dg . u (> 0 sagging)."""
+    def _side_frame(self, P, a, b):
+        """Of sides a -> b: u = perp(b - a) (k, 2), its length L (k,) and the cosine c (k,) of
+        its angle to the bars' first direction."""
         d = P[b] - P[a]
         u = np.stack([-d[:, 1], d[:, 0]], axis=1)
         L = np.maximum(np.hypot(u[:, 0], u[:, 1]), 1e-300)
-        c = (u @ self.e1) / L
+        return u, L, (u @ self.e1) / L
+
+    def _sides(self, P, a, b, dg, caps, hog_only):
+        """Work of sides a -> b with slope jump dg (k, 2) and its derivatives by u = perp(b - a)
+        and by dg. Sign convention: theta L = dg . u (> 0 sagging)."""
+        u, L, c = self._side_frame(P, a, b)
         p1, p2, m1, m2 = caps
         tl = (dg * u).sum(1)
         sag = tl > 0
@@ -249,10 +247,7 @@ class _Problem:
         sides on supports count hogging only)."""
         rows, J, mp, mm, wt = [], [], [], [], []
         for a, b, r, s, dg, caps, ho, f in self._side_groups(C):
-            d = P[b] - P[a]
-            u = np.stack([-d[:, 1], d[:, 0]], axis=1)
-            L = np.maximum(np.hypot(u[:, 0], u[:, 1]), 1e-300)
-            c = (u @ self.e1) / L
+            u, L, c = self._side_frame(P, a, b)
             p1, p2, m1, m2 = caps
             tl = (dg * u).sum(1)
             dPb = np.stack([dg[:, 1], -dg[:, 0]], axis=1)
@@ -421,6 +416,15 @@ def _line_mid(g) -> tuple[float, float]:
         acc += ((c[:-1] + c[1:]) * 0.5 * L[:, None]).sum(0)
         tot += float(L.sum())
     return tuple(acc / tot) if tot > 0 else (0.0, 0.0)
+
+
+def boundary_segments(model: Model) -> np.ndarray:
+    """Segments (s, 2, 2), m, of the outline, the openings and the faces of ground supports;
+    their start points are every corner of those rings."""
+    rings = [np.asarray(model.slab.outline, float)] + [np.asarray(h, float) for h in model.slab.openings]
+    rings += [np.asarray(part.exterior.coords, float)[:-1]
+              for sp in ground(model) for part in getattr(sp.polygon, "geoms", [sp.polygon])]
+    return np.concatenate([np.stack([r, np.roll(r, -1, axis=0)], axis=1) for r in rings])
 
 
 def _seg_dist(P: np.ndarray, segs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

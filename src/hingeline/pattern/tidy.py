@@ -12,11 +12,10 @@ import logging
 import numpy as np
 import shapely
 
-from ..check.regions import ground
 from ..model import Model
 from ..upper.certificate import slab_region
 from .layout import Layout, _signed_area, layout_of
-from .problem import _Problem, _seg_dist
+from .problem import _Problem, _seg_dist, boundary_segments
 
 log = logging.getLogger(__name__)
 
@@ -225,22 +224,13 @@ def _absorb(kept, slivers, P, size):
 
 def _on_boundary(model: Model, P: np.ndarray, size: float) -> np.ndarray:
     """Points on the outline, an opening or a support face."""
-    segs = [np.stack([model.slab.outline, np.roll(model.slab.outline, -1, axis=0)], axis=1)]
-    segs += [np.stack([np.asarray(h), np.roll(np.asarray(h), -1, axis=0)], axis=1) for h in model.slab.openings]
-    for sp in ground(model):
-        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
-            ring = np.asarray(part.exterior.coords)
-            segs.append(np.stack([ring[:-1], ring[1:]], axis=1))
-    d, _ = _seg_dist(P, np.concatenate(segs))
+    d, _ = _seg_dist(P, boundary_segments(model))
     return (d <= 1e-7 * size).any(axis=1)
 
 
 def _fixed_points(model: Model, P: np.ndarray, size: float) -> np.ndarray:
-    corners = [np.asarray(model.slab.outline)] + [np.asarray(h) for h in model.slab.openings]
-    for sp in ground(model):
-        for part in getattr(sp.polygon, "geoms", [sp.polygon]):
-            corners.append(np.asarray(part.exterior.coords))
-    c = np.concatenate(corners)
+    """Points at a corner of the outline, an opening or a support."""
+    c = boundary_segments(model)[:, 0]
     d = np.hypot(*(P[:, None, :] - c[None]).transpose(2, 0, 1))
     return (d <= 1e-7 * size).any(axis=1)
 
