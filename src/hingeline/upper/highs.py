@@ -67,7 +67,6 @@ def highs_instance() -> highspy.Highs:
 
 def new_model(n_nodes, ipm, n_extra=0):
     h = highs_instance()
-    h.setOptionValue("output_flag", False)
     h.setOptionValue("primal_feasibility_tolerance", 1e-9)
     h.setOptionValue("dual_feasibility_tolerance", 1e-9)
     if ipm:

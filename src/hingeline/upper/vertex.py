@@ -79,12 +79,13 @@ def vertex_rotations(h, sol, obj: float, lines: LineSet, n_nodes: int, m_ref: fl
     limit = obj * (1 + 1e-7) + 1e-12
     idx = np.flatnonzero(np.abs(theta_ipm) > 1e-7 * np.abs(theta_ipm).max())
     support = partial(_support_vertex, lines, idx, n_nodes, m_ref, n_extra)
-    tries = [("the support", partial(support, True, 1e-9)),
-             ("crossover", partial(_live_crossover, h, sol)),
-             ("IPX crossover", partial(_live_ipx_crossover, h)),
-             ("the support at 1e-8", partial(support, True, 1e-8)),
-             ("the support by simplex at 1e-8", partial(support, False, 1e-8))]
-    for name, attempt in tries:
+    # (name, attempt, the lines its columns stand for: idx, or None for every line)
+    tries = [("the support", partial(support, True, 1e-9), idx),
+             ("crossover", partial(_live_crossover, h, sol), None),
+             ("IPX crossover", partial(_live_ipx_crossover, h), None),
+             ("the support at 1e-8", partial(support, True, 1e-8), idx),
+             ("the support by simplex at 1e-8", partial(support, False, 1e-8), idx)]
+    for name, attempt, cols in tries:
         try:
             vsol, vobj = attempt()
         except (SolverError, UnstableSlabError) as err:
@@ -95,9 +96,9 @@ def vertex_rotations(h, sol, obj: float, lines: LineSet, n_nodes: int, m_ref: fl
             continue
         xv = np.asarray(vsol.col_value)
         theta = xv[0::2] - xv[1::2]
-        if name.startswith("the support"):
+        if cols is not None:
             theta = np.zeros(len(lines))
-            theta[idx] = xv[0::2] - xv[1::2]
+            theta[cols] = xv[0::2] - xv[1::2]
         log.info("vertex by %s (%d lines in the support)", name, len(idx))
         return theta
     log.info("no vertex solution: using the interior-point solution")
