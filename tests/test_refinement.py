@@ -129,21 +129,39 @@ def test_the_old_resolution_option_is_refused_naming_its_replacement(tmp_path, c
     assert not (tmp_path / "out").exists()
 
 
-def test_load_cases_start_from_the_refined_mesh_of_the_governing_case():
-    model = hingeline.model_from_toml(CLAMPED.replace('value = 1.0\n', 'value = 1.0\nname = "all"\n') + """
+def _full_and_other(value: float):
+    """The clamped square under two load cases, "full" (1 kPa) and "other" (`value` kPa),
+    refined to a 2 % gap: the governing result and the other case's load factor and lower bound."""
+    model = hingeline.model_from_toml(CLAMPED.replace('value = 1.0\n', 'value = 1.0\nname = "all"\n') + f"""
 [[load]]
 type = "area"
-name = "half"
-value = 0.5
+name = "part"
+value = {value}
 [[case]]
 name = "full"
 loads = ["all"]
 [[case]]
-name = "light"
-loads = ["half"]
+name = "other"
+loads = ["part"]
 """)
     r = hingeline.solve_cases(model, gap=0.02, time_limit=60)
-    assert r.case == "full"
-    light = dict(r.cases)["light"]
-    assert light == pytest.approx(2 * r.load_factor, rel=0.02)       # half the load: twice the factor
-    assert r.stop == "gap" and len(r.refinement) >= 2
+    assert r.case == "full" and r.stop == "gap"
+    assert r.lower_bound.load_factor <= FOX <= r.load_factor
+    return r, dict(r.cases)["other"], dict(zip([n for n, _ in r.cases], r.case_lower_bounds))["other"]
+
+
+def test_a_load_case_that_cannot_govern_is_not_refined():
+    # Half the load: twice Fox's factor, bracketed by the case's own bounds; its lower bound
+    # alone proves it cannot govern, so it stays at the first mesh (its bracket wider).
+    r, upper, lower = _full_and_other(0.5)
+    assert len(r.refinement) >= 2
+    assert lower <= 2 * FOX <= upper
+    assert lower > r.load_factor
+
+
+def test_a_load_case_that_may_govern_is_refined_from_the_governing_mesh():
+    # 98 % of the load (Fox's factor / 0.98, 2 % above): the case's first-mesh lower bound does
+    # not clear the governing load factor, so it refines too, to its own target.
+    r, upper, lower = _full_and_other(0.98)
+    assert lower <= FOX / 0.98 <= upper
+    assert (upper - lower) / upper <= 0.02

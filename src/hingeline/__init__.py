@@ -12,7 +12,8 @@ Units: m, kN, kNm/m, kPa. The load factor is an upper bound (collapse mechanism)
 from .errors import HingelineError, ModelError, SolverError, UnstableSlabError
 from .model import Model, model_from_toml, parse_model, read_model
 from .result import Result
-from .solve import solve, solve_cases
+from .cases import solve_cases
+from .solve import solve
 from .upper.certificate import check_mechanism
 
 __all__ = [

@@ -146,6 +146,7 @@ STOP_REASONS = {
     "stalled": "a further step no longer narrowed the bracket",
     "nodes": "the next mesh would exceed the node limit",
     "uniform": "one uniform mesh was asked for (nodes or mesh_size), no refinement",
+    "not governing": "a load case whose lower bound is above the governing case's load factor: it cannot govern",
 }
 
 

@@ -18,7 +18,7 @@ from .errors import HeldLoadCollapse, ModelError, SolverError, UnstableSlabError
 from .geometry.domain import build_domain
 from .geometry.mesh import MAX_NODES, START_NODES, SizeField, check_node_budget, mesh_domain, mesh_size_for
 from .lower_step import lower_bound_on_mesh
-from .model import Model, model_for_case
+from .model import Model
 from .model.scaling import Scales, dimensionless, scales_of, size_warning
 from .refine import NARROWING, REFINE_FACTOR, carried_lines, lines_onto, refinement_points
 from .result import STOP_REASONS, CertificateCheck, RefinementStep, Result, SolveStats, Work
@@ -51,7 +51,7 @@ def solve(model: Model, nodes: int | None = None, mesh_size: float | None = None
     depends on the slab's size or on the magnitude of its capacities and loads; the result
     is in the model's units.
     """
-    return _solve(model, nodes, mesh_size, lower_bound, gap, time_limit)[0]
+    return Refinement(model, nodes, mesh_size, lower_bound, gap, time_limit).run().finish()[0]
 
 
 def mesh_plan(model: Model, nodes: int | None, mesh_size: float | None) -> tuple[bool, float, str]:
@@ -69,84 +69,205 @@ def mesh_plan(model: Model, nodes: int | None, mesh_size: float | None) -> tuple
     return False, mesh_size_for(model, START_NODES), "the first mesh of refinement"
 
 
-def _solve(model: Model, nodes: int | None, mesh_size: float | None, lower_bound: bool, gap: float | None,
-           time_limit: float | None, start: SizeField | None = None,
-           carried: np.ndarray | None = None) -> tuple[Result, SizeField | None, np.ndarray, int]:
-    """solve(), also returning the size field of the last mesh (model units; None for a
-    uniform mesh), and starting from the size field `start` (model units) when given.
-    carried: end points (k, 2, 2), m, of lines put in the first LP (see solve_carrying).
-    Also returns the end points (k, 2, 2), m, of the active lines of the mechanism kept and
-    how many carried lines went into the first LP."""
-    t0 = time.perf_counter()
-    uniform, size, option = mesh_plan(model, nodes, mesh_size)
-    target = model.analysis.target_gap if gap is None else float(gap)
-    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
-    # Refused before meshing: the mesher itself can exhaust memory on a tiny element size.
-    check_node_budget(model, size, option)
-    s = scales_of(model)
-    hint = size_warning(model)
-    if start is not None:
-        start = SizeField(start.base / s.length, s.points_in(start.points), start.sizes / s.length)
-    if carried is not None:
-        carried = s.points_in(np.asarray(carried, float).reshape(-1, 2)).reshape(-1, 2, 2)
-    try:
-        run = _refine(dimensionless(model, s), size / s.length, uniform, lower_bound, s, option, target, limit,
-                      start, t0, carried)
-    except HeldLoadCollapse as err:
-        err.result = _held_alone(model, nodes, mesh_size)
-        if hint is not None:
-            err.args = (f"{err}; {hint}",)
-        raise
-    except UnstableSlabError as err:
-        if hint is None:
-            raise
-        raise UnstableSlabError(f"{err}; {hint}") from None
-    raw, mismatch, support_w, lower_raw, steps, stop, field, active, admitted = run
+class Refinement:
+    """One solve of `model` in progress: its meshes, solved one `step` at a time (adaptive
+    refinement, or the one uniform mesh), then `finish`ed into a Result. Load cases
+    (cases.py) step every case's first mesh before choosing which one to refine.
 
-    lf = rescale.load_factor(raw.load_factor, s)
-    mech = rescale.mechanism(raw.mechanism, s)
-    # The certificate re-checks the mechanism as it is returned, against the model as given.
-    check = check_mechanism(model, mech)
-    w_max = float(np.abs(mech.w).max())
-    warnings = [*model.capacity.warnings, *([hint] if hint else [])]
-    if not certificate_agrees(lf, check, w_max):
-        warnings.append(
-            f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
-            f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / abs(lf):.1e}, "
-            f"scaled-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
-            "of the largest |w|); the larger value is not reliable, report this model to the developers")
-    if mismatch > 1e-8 or support_w > 1e-8:
-        warnings.append(
-            f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
-            f"|w| on supports reaches {support_w:.1e} (both relative to the largest |w|); report this model "
-            "to the developers")
-    warnings += raw.warnings
-    lb = None
-    if lower_raw is not None:
-        lb = rescale.lower_bound(lower_raw, s)
-        if lb.load_factor is not None and lb.load_factor > lf * (1 + CERTIFICATE_RTOL):
+    Arguments as for solve(); start: a size field (model units) to start from instead of the
+    first uniform mesh; carried: end points (k, 2, 2), m, of lines put in the first LP (see
+    cases.solve_carrying); t0: when the time limit started counting (default: now).
+    Both bounds are solved in the dimensionless units `s` (model/scaling.py); `upper` and
+    `lower` give the bounds so far in the model's units."""
+
+    def __init__(self, model: Model, nodes: int | None, mesh_size: float | None, lower_bound: bool,
+                 gap: float | None, time_limit: float | None, start: SizeField | None = None,
+                 carried: np.ndarray | None = None, t0: float | None = None):
+        self.t0 = time.perf_counter() if t0 is None else t0
+        self.model, self.nodes, self.mesh_size, self.lower_bound = model, nodes, mesh_size, lower_bound
+        self.uniform, size, self.option = mesh_plan(model, nodes, mesh_size)
+        self.target = model.analysis.target_gap if gap is None else float(gap)
+        self.limit = model.analysis.time_limit if time_limit is None else float(time_limit)
+        # Refused before meshing: the mesher itself can exhaust memory on a tiny element size.
+        check_node_budget(model, size, self.option)
+        s = self.s = scales_of(model)
+        self.hint = size_warning(model)
+        self.size = size / s.length
+        self.dimless = dimensionless(model, s)
+        self.domain = build_domain(self.dimless, margin=self.size)
+        if start is not None:
+            self.field = SizeField(start.base / s.length, s.points_in(start.points), start.sizes / s.length)
+        else:
+            self.field = SizeField(self.size, np.zeros((0, 2)), np.zeros(0))
+        self.carried = None
+        if carried is not None:
+            self.carried = s.points_in(np.asarray(carried, float).reshape(-1, 2)).reshape(-1, 2, 2)
+        self.steps, self.best, self.lower_raw, self.prev = [], None, None, None
+        self.up_best = self.lo_best = self.last_gap = self.milder = None
+        self.best_sound = False
+        self.admitted = 0
+        self.stop: str | None = None
+
+    def upper(self) -> float:
+        """The lowest upper bound so far (model units)."""
+        return rescale.load_factor(self.up_best, self.s)
+
+    def lower(self) -> float | None:
+        """The highest proven lower bound so far (model units), or None."""
+        return None if self.lo_best is None else rescale.load_factor(self.lo_best, self.s)
+
+    def run(self) -> Refinement:
+        """Step until a stop reason is reached."""
+        while self.stop is None:
+            self.step()
+        return self
+
+    def step(self) -> None:
+        """Solve the next mesh (or find that none is to be solved), and set `stop` when the
+        solve is over."""
+        try:
+            self._step()
+        except HeldLoadCollapse as err:
+            err.result = _held_alone(self.model, self.nodes, self.mesh_size)
+            if self.hint is not None:
+                err.args = (f"{err}; {self.hint}",)
+            raise
+        except UnstableSlabError as err:
+            if self.hint is None:
+                raise
+            raise UnstableSlabError(f"{err}; {self.hint}") from None
+
+    def _step(self) -> None:
+        model, steps, target = self.dimless, self.steps, self.target
+        while True:
+            mesh = mesh_domain(self.domain, model, self.size, None if self.uniform else self.field)
+            if len(mesh.nodes) > MAX_NODES:
+                if steps:
+                    self.stop = "nodes"
+                    return
+                raise ModelError(
+                    f"{self.option} = {self.size * self.s.length:.4g} m gives {len(mesh.nodes):,} nodes, more than "
+                    f"the {MAX_NODES:,} that hingeline handles; use a larger {self.option}")
+            if not steps:
+                break
+            elapsed = time.perf_counter() - self.t0
+            # A step costs more than in proportion to its nodes: candidate lines grow with their square, and
+            # the steps of the clamped square were measured to grow as nodes^1.7 to nodes^2.6.
+            guess = steps[-1].seconds * (len(mesh.nodes) / self.prev[1]) ** 2
+            if elapsed + guess <= self.limit:
+                break
+            if self.milder is None:
+                self.stop = "time"
+                return
+            # Too big for the time left: refine the same places by less, once.
+            self.field, self.milder = self.milder, None
+        if self.prev is None:
+            first = None if self.carried is None else lines_onto(self.carried, mesh.nodes)
+        else:
+            first = carried_lines(self.prev[0], self.prev[2], mesh.nodes)
+        t_step = time.perf_counter()
+        raw, mismatch, support_w, active, n_in = _solve_on_mesh(model, self.domain, mesh, self.size,
+                                                                self.lower_bound, self.s, self.option, first)
+        if self.prev is None:
+            self.admitted = n_in
+        lb = raw.lower_bound
+        lo = None if lb is None else lb.load_factor
+        step_gap = None if lo is None else (raw.load_factor - lo) / raw.load_factor
+        steps.append(RefinementStep(raw.stats.slab_nodes, raw.load_factor, lo, step_gap,
+                                    time.perf_counter() - t_step))
+        # Only a step whose mechanism is certified may hold the lowest upper bound: on a
+        # refined L-shaped slab the interior-point fallback of the vertex step once gave a
+        # mechanism whose work equation disagreed with its LP value by a factor of 4.
+        chk = check_mechanism(model, raw.mechanism)
+        sound = (certificate_agrees(raw.load_factor, chk, float(np.abs(raw.mechanism.w).max()))
+                 and mismatch <= 1e-8 and support_w <= 1e-8)
+        if self.best is None or (sound and (not self.best_sound or raw.load_factor < self.up_best)):
+            self.best = (raw, mismatch, support_w, mesh.nodes[active])
+            self.up_best, self.best_sound = raw.load_factor, sound
+        if lb is not None and (self.lower_raw is None or (lo is not None and (self.lo_best is None or lo > self.lo_best))):
+            self.lower_raw, self.lo_best = lb, (lo if lo is not None else self.lo_best)
+        self.prev = (mesh.nodes, len(mesh.nodes), active)
+        log.info("refinement step %d: %d nodes, upper %.6g, lower %s, %.2f s", len(steps), len(mesh.nodes),
+                 raw.load_factor, lo, steps[-1].seconds)
+        now = None if self.lo_best is None else (self.up_best - self.lo_best) / self.up_best
+        if self.uniform:
+            self.stop = "uniform"
+        elif now is not None and now <= target:
+            self.stop = "gap"
+        elif time.perf_counter() - self.t0 >= self.limit:
+            self.stop = "time"
+        elif self.lower_bound and now is not None:
+            if self.last_gap is not None and now > NARROWING * self.last_gap:
+                self.stop = "stalled"
+            self.last_gap = now
+        elif len(steps) > 1 and steps[-2].load_factor - self.up_best < 0.25 * target * self.up_best:
+            # Without a lower bound: stop when the upper bound no longer falls by a quarter of the target.
+            self.stop = "stalled"
+        if self.stop is None:
+            marks = refinement_points(model, self.domain, raw.yield_lines, lb, self.field)
+            self.field, self.milder = self.field.refined(marks, REFINE_FACTOR), self.field.refined(
+                marks, np.sqrt(REFINE_FACTOR))
+
+    def finish(self, stop: str | None = None) -> tuple[Result, SizeField | None, np.ndarray, int]:
+        """The Result (model units) of the steps solved so far; stop: the stop reason to give
+        when the solve is ended from outside (a load case that cannot govern). Also returns the
+        size field of the last mesh (model units; None for a uniform mesh), the end points
+        (k, 2, 2), m, of the active lines of the mechanism kept, and how many carried lines
+        went into the first LP."""
+        model, s, target, uniform = self.model, self.s, self.target, self.uniform
+        stop = self.stop if stop is None else stop
+        raw, mismatch, support_w, active = self.best
+        # Warnings about a missing lower bound belong to the step whose bound is kept.
+        keep = [w for w in raw.warnings if not w.startswith("no lower bound")]
+        if self.lower_raw is not None and self.lower_raw.load_factor is None:
+            keep.append(f"no lower bound: {self.lower_raw.reason}")
+
+        lf = rescale.load_factor(raw.load_factor, s)
+        mech = rescale.mechanism(raw.mechanism, s)
+        # The certificate re-checks the mechanism as it is returned, against the model as given.
+        check = check_mechanism(model, mech)
+        w_max = float(np.abs(mech.w).max())
+        warnings = [*model.capacity.warnings, *([self.hint] if self.hint else [])]
+        if not certificate_agrees(lf, check, w_max):
             warnings.append(
-                f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
-                "wrong; report this model to the developers")
-    steps = tuple(RefinementStep(st.nodes, rescale.load_factor(st.load_factor, s),
-                                 rescale.load_factor(st.lower_bound, s), st.gap, st.seconds) for st in steps)
-    result_gap = None
-    if lb is not None and lb.load_factor is not None:
-        result_gap = (lf - lb.load_factor) / lf
-    if not uniform and stop != "gap" and (result_gap is None or result_gap > target):
-        shown = "no lower bound" if result_gap is None else f"a gap of {100 * result_gap:.2f} %"
-        warnings.append(f"the target gap of {100 * target:.2f} % was not reached ({STOP_REASONS[stop]}); "
-                        f"refinement ended with {shown}")
-    warnings += [*review.continuous_without_hogging(model), *review.wide_gap(lf, lb), *review.uplift(mech)]
-    stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - t0)
-    log.info("load factor %.6g (certificate %.6g), %.2f s, %d steps, stop: %s", lf, check.load_factor,
-             stats.seconds, len(steps), stop)
-    result = Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
-                    check, tuple(warnings), lower_bound=lb, refinement=steps, stop=stop,
-                    target_gap=None if uniform else target)
-    if field is not None:
-        field = SizeField(field.base * s.length, s.points_out(field.points), field.sizes * s.length)
-    return result, field, s.points_out(active.reshape(-1, 2)).reshape(-1, 2, 2), admitted
+                f"certificate check disagrees: the mechanism field gives load factor {check.load_factor:.8g} "
+                f"against {lf:.8g} from the linear program (relative {abs(check.load_factor - lf) / abs(lf):.1e}, "
+                f"scaled-load work {check.factored:.8g}, largest |w| on supports {check.max_support_w / w_max:.1e} "
+                "of the largest |w|); the larger value is not reliable, report this model to the developers")
+        if mismatch > 1e-8 or support_w > 1e-8:
+            warnings.append(
+                f"the rotations are not fully compatible: planes disagree by up to {mismatch:.1e} and "
+                f"|w| on supports reaches {support_w:.1e} (both relative to the largest |w|); report this model "
+                "to the developers")
+        warnings += keep
+        lb = None
+        if self.lower_raw is not None:
+            lb = rescale.lower_bound(self.lower_raw, s)
+            if lb.load_factor is not None and lb.load_factor > lf * (1 + CERTIFICATE_RTOL):
+                warnings.append(
+                    f"the lower bound {lb.load_factor:.6g} exceeds the load factor {lf:.6g}: one of the two is "
+                    "wrong; report this model to the developers")
+        steps = tuple(RefinementStep(st.nodes, rescale.load_factor(st.load_factor, s),
+                                     rescale.load_factor(st.lower_bound, s), st.gap, st.seconds) for st in self.steps)
+        result_gap = None
+        if lb is not None and lb.load_factor is not None:
+            result_gap = (lf - lb.load_factor) / lf
+        if not uniform and stop not in ("gap", "not governing") and (result_gap is None or result_gap > target):
+            shown = "no lower bound" if result_gap is None else f"a gap of {100 * result_gap:.2f} %"
+            warnings.append(f"the target gap of {100 * target:.2f} % was not reached ({STOP_REASONS[stop]}); "
+                            f"refinement ended with {shown}")
+        warnings += [*review.continuous_without_hogging(model), *review.wide_gap(lf, lb), *review.uplift(mech)]
+        stats = replace(rescale.stats(raw.stats, s), seconds=time.perf_counter() - self.t0)
+        log.info("load factor %.6g (certificate %.6g), %.2f s, %d steps, stop: %s", lf, check.load_factor,
+                 stats.seconds, len(steps), stop)
+        result = Result(model, lf, rescale.yield_lines(raw.yield_lines, s), rescale.work(raw.work, s), mech, stats,
+                        check, tuple(warnings), lower_bound=lb, refinement=steps, stop=stop,
+                        target_gap=None if uniform else target)
+        field = None
+        if not uniform:
+            f = self.field
+            field = SizeField(f.base * s.length, s.points_out(f.points), f.sizes * s.length)
+        return result, field, s.points_out(active.reshape(-1, 2)).reshape(-1, 2, 2), self.admitted
 
 
 def _held_alone(model: Model, nodes: int | None, mesh_size: float | None) -> Result | None:
@@ -163,101 +284,6 @@ def _held_alone(model: Model, nodes: int | None, mesh_size: float | None) -> Res
     note = (f"this is the mechanism of the held loads alone: the slab collapses at {r.load_factor:.4g} times "
             "them, before any scaled load is applied")
     return replace(r, warnings=(note, *r.warnings))
-
-
-def _refine(model: Model, size: float, uniform: bool, lower_bound: bool, s: Scales, option: str,
-            target: float, limit: float, start: SizeField | None, t0: float, carried: np.ndarray | None = None):
-    """The meshes of one solve, in the units `s` (element size `size` in those units);
-    carried: end points (k, 2, 2) of lines for the first mesh's first LP, in those units.
-
-    Returns (step result holding the lowest upper bound, its plane mismatch and |w| on
-    supports, the LowerBound holding the highest proven lower bound (None without one),
-    the steps as RefinementStep in those units, the stop reason, the last size field or
-    None for a uniform mesh, the end points (k, 2, 2) of that step's active lines, how many
-    carried lines the first LP held)."""
-    domain = build_domain(model, margin=size)
-    field = start if start is not None else SizeField(size, np.zeros((0, 2)), np.zeros(0))
-    steps, best, lower, prev = [], None, None, None
-    up_best = lo_best = None
-    last_gap = milder = None
-    best_sound = False
-    admitted = 0
-    while True:
-        mesh = mesh_domain(domain, model, size, None if uniform else field)
-        if len(mesh.nodes) > MAX_NODES:
-            if steps:
-                stop = "nodes"
-                break
-            raise ModelError(
-                f"{option} = {size * s.length:.4g} m gives {len(mesh.nodes):,} nodes, more than the {MAX_NODES:,} "
-                f"that hingeline handles; use a larger {option}")
-        elapsed = time.perf_counter() - t0
-        if steps:
-            # A step costs more than in proportion to its nodes: candidate lines grow with their square, and
-            # the steps of the clamped square were measured to grow as nodes^1.7 to nodes^2.6.
-            guess = steps[-1].seconds * (len(mesh.nodes) / prev[1]) ** 2
-            if elapsed + guess > limit and milder is not None:
-                # Too big for the time left: refine the same places by less, once.
-                field, milder = milder, None
-                continue
-            if elapsed + guess > limit:
-                stop = "time"
-                break
-        if prev is None:
-            first = None if carried is None else lines_onto(carried, mesh.nodes)
-        else:
-            first = carried_lines(prev[0], prev[2], mesh.nodes)
-        t_step = time.perf_counter()
-        raw, mismatch, support_w, active, n_in = _solve_on_mesh(model, domain, mesh, size, lower_bound, s, option,
-                                                                first)
-        if prev is None:
-            admitted = n_in
-        lb = raw.lower_bound
-        lo = None if lb is None else lb.load_factor
-        step_gap = None if lo is None else (raw.load_factor - lo) / raw.load_factor
-        steps.append(RefinementStep(raw.stats.slab_nodes, raw.load_factor, lo, step_gap,
-                                    time.perf_counter() - t_step))
-        # Only a step whose mechanism is certified may hold the lowest upper bound: on a
-        # refined L-shaped slab the interior-point fallback of the vertex step once gave a
-        # mechanism whose work equation disagreed with its LP value by a factor of 4.
-        chk = check_mechanism(model, raw.mechanism)
-        sound = (certificate_agrees(raw.load_factor, chk, float(np.abs(raw.mechanism.w).max()))
-                 and mismatch <= 1e-8 and support_w <= 1e-8)
-        if best is None or (sound and (not best_sound or raw.load_factor < up_best)):
-            best, up_best, best_sound = (raw, mismatch, support_w, mesh.nodes[active]), raw.load_factor, sound
-        if lb is not None and (lower is None or (lo is not None and (lo_best is None or lo > lo_best))):
-            lower, lo_best = lb, (lo if lo is not None else lo_best)
-        prev = (mesh.nodes, len(mesh.nodes), active)
-        log.info("refinement step %d: %d nodes, upper %.6g, lower %s, %.2f s", len(steps), len(mesh.nodes),
-                 raw.load_factor, lo, steps[-1].seconds)
-        if uniform:
-            stop = "uniform"
-            break
-        now = None if lo_best is None else (up_best - lo_best) / up_best
-        if now is not None and now <= target:
-            stop = "gap"
-            break
-        if time.perf_counter() - t0 >= limit:
-            stop = "time"
-            break
-        if lower_bound and now is not None:
-            if last_gap is not None and now > NARROWING * last_gap:
-                stop = "stalled"
-                break
-            last_gap = now
-        elif len(steps) > 1 and steps[-2].load_factor - up_best < 0.25 * target * up_best:
-            # Without a lower bound: stop when the upper bound no longer falls by a quarter of the target.
-            stop = "stalled"
-            break
-        marks = refinement_points(model, domain, raw.yield_lines, lb, field)
-        field, milder = field.refined(marks, REFINE_FACTOR), field.refined(marks, np.sqrt(REFINE_FACTOR))
-    raw, mismatch, support_w, ends = best
-    # Warnings about a missing lower bound belong to the step whose bound is kept.
-    keep = [w for w in raw.warnings if not w.startswith("no lower bound")]
-    if lower is not None and lower.load_factor is None:
-        keep.append(f"no lower bound: {lower.reason}")
-    raw = replace(raw, warnings=tuple(keep), lower_bound=None)
-    return raw, mismatch, support_w, lower, steps, stop, None if uniform else field, ends, admitted
 
 
 def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s: Scales, option: str,
@@ -317,81 +343,3 @@ def _solve_on_mesh(model: Model, domain, mesh, size: float, lower_bound: bool, s
     act = active_lines(theta)
     active = np.stack([cand.a[act], cand.b[act]], axis=1)
     return result, mismatch / max(w_max, 1e-300), support_w / max(w_max, 1e-300), active, sol.carried
-
-
-def solve_cases(model: Model, nodes: int | None = None, mesh_size: float | None = None,
-                lower_bound: bool = True, gap: float | None = None, time_limit: float | None = None) -> Result:
-    """Solve every load case of `model` (or the model itself when it has none) and return the
-    governing result: the case with the lowest load factor, carrying the table of all cases
-    with each case's lower bound (the slab carries every case at the smallest of them); the
-    result's own lower bound is that of the governing case.
-
-    With adaptive refinement (see `solve`), every case is first solved on the first, coarse
-    mesh (upper bound only); the case governing there is refined, and the other cases start from the refined
-    mesh sizes of the governing case (the size field, valid for any loads on the slab) and
-    refine further only if their own bracket needs it, within what is left of the time limit.
-    """
-    return solve_carrying(model, nodes, mesh_size, lower_bound, gap, time_limit)[0]
-
-
-def solve_carrying(model: Model, nodes: int | None = None, mesh_size: float | None = None,
-                   lower_bound: bool = True, gap: float | None = None, time_limit: float | None = None,
-                   carried: tuple[np.ndarray, ...] | None = None) -> tuple[Result, tuple[np.ndarray, ...], int]:
-    """solve_cases, handing active lines between the solves of similar models (a study's
-    neighbouring variants). carried: per load case (in model order; one array when the model
-    has none), end points (k, 2, 2) in m of lines active in a similar model's mechanism; they
-    are mapped to the nearest nodes of this model's mesh and put in the first LP, where those
-    that are not admissible lines here are dropped. Returns (the result of solve_cases, this
-    model's active lines in the same form, how many carried lines the first LPs held).
-
-    Only on one uniform mesh: the LP's answer is its optimum over every admissible line, so the
-    carried lines change where the rounds start and not the load factor. Under adaptive
-    refinement they could change which vertex of a degenerate optimal face the first mesh
-    returns, hence where the next mesh refines and the answer: there `carried` is ignored and
-    no lines are returned.
-    """
-    t0 = time.perf_counter()
-    uniform, size, _ = mesh_plan(model, nodes, mesh_size)
-    cases = [(case.name, model_for_case(model, case)) for case in model.cases] or [(None, model)]
-    carry = tuple(carried) if uniform and carried is not None and len(carried) == len(cases) else (None,) * len(cases)
-    if uniform:
-        results, ends, admitted = [], [], 0
-        for (name, m), lines in zip(cases, carry):
-            if name is not None:
-                log.info("load case %s", name)
-            r, _, act, n_in = _solve(m, nodes, mesh_size, lower_bound, gap, time_limit, carried=lines)
-            results.append((name, r))
-            ends.append(act)
-            admitted += n_in
-        if not model.cases:
-            return results[0][1], tuple(ends), admitted
-        return _governing(results, lower_bound), tuple(ends), admitted
-    if not model.cases:
-        return solve(model, nodes, mesh_size, lower_bound, gap, time_limit), (), 0
-    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
-    first = []
-    for name, m in cases:
-        # Only the upper bound picks the governing case: no lower bound on this pass.
-        log.info("load case %s, first mesh", name)
-        first.append(solve(m, mesh_size=size, lower_bound=False).load_factor)
-    lead = int(np.argmin(first))
-    log.info("load case %s governs on the first mesh: refining it", cases[lead][0])
-    governing, field, _, _ = _solve(cases[lead][1], None, None, lower_bound, gap, limit - (time.perf_counter() - t0))
-    results = []
-    for k, (name, m) in enumerate(cases):
-        if k == lead:
-            results.append((name, governing))
-            continue
-        log.info("load case %s, from the refined mesh of case %s", name, cases[lead][0])
-        left = max(limit - (time.perf_counter() - t0), 1e-3)
-        results.append((name, _solve(m, None, None, lower_bound, gap, left, start=field)[0]))
-    return _governing(results, lower_bound), (), 0
-
-
-def _governing(results: list[tuple[str, Result]], lower_bound: bool) -> Result:
-    """The case with the lowest load factor, with the table of all cases and their lower bounds."""
-    name, governing = min(results, key=lambda nr: nr[1].load_factor)
-    table = tuple((n, r.load_factor) for n, r in results)
-    lowers = tuple(r.lower_bound.load_factor if r.lower_bound else None for _, r in results) if lower_bound else ()
-    # The result keeps the case's own model (its loads), so its certificate re-checks as it is.
-    return replace(governing, case=name, cases=table, case_lower_bounds=lowers)

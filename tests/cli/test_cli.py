@@ -176,7 +176,7 @@ def fan_result(model, rotation: float = 0.01) -> Result:
 
 @pytest.fixture
 def fake_solver(monkeypatch):
-    """Install a stand-in `hingeline.solve` module; returns the list of calls made."""
+    """Install stand-in `hingeline.solve` and `hingeline.cases` modules; returns the list of calls made."""
     calls: list[dict] = []
     behaviour: dict = {"raise": None}
 
@@ -189,8 +189,10 @@ def fake_solver(monkeypatch):
 
     module = types.ModuleType("hingeline.solve")
     module.solve = solve
-    module.solve_cases = solve  # the stand-in models have no load cases
     monkeypatch.setitem(sys.modules, "hingeline.solve", module)
+    cases = types.ModuleType("hingeline.cases")
+    cases.solve_cases = solve  # the stand-in models have no load cases
+    monkeypatch.setitem(sys.modules, "hingeline.cases", cases)
     return types.SimpleNamespace(calls=calls, behaviour=behaviour)
 
 

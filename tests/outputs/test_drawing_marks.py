@@ -159,7 +159,7 @@ def test_every_drawing_carries_the_stamp(tmp_path):
     path = tmp_path / "panel.toml"
     path.write_text(text, encoding="utf-8")
     model = read_model(path)
-    from hingeline.solve import solve_cases
+    from hingeline.cases import solve_cases
 
     result = solve_cases(model)
     digest = hashlib.sha256(path.read_bytes()).hexdigest()

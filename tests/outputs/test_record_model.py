@@ -18,7 +18,7 @@ import pytest
 
 from hingeline.model import model_from_toml, read_model
 from hingeline.outputs.record import build_report
-from hingeline.solve import solve_cases
+from hingeline.cases import solve_cases
 from hingeline.outputs.record_model import method_items, model_tables
 from hingeline.outputs.record_tables import lower_bound_table, status_words
 

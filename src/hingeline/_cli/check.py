@@ -30,7 +30,7 @@ def run(args: argparse.Namespace) -> int:
     case, hc = min(checks, key=lambda c: c[1].load_factor)
     solved = None
     if not args.no_compare:
-        from ..solve import solve_cases
+        from ..cases import solve_cases
 
         # Only the mechanism is compared (the mesh as the model asks, without the lower bound), over
         # the same cases.

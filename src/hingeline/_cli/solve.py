@@ -107,7 +107,7 @@ def run(args: argparse.Namespace) -> int:
         # Checked here too, so that the message names the option the user typed.
         check_node_budget(model, args.mesh_size, "--mesh-size")
     report.check_outdir(args.outdir)
-    from ..solve import solve_cases  # imported late: reading the model needs no solver
+    from ..cases import solve_cases  # imported late: reading the model needs no solver
 
     try:
         result = solve_cases(model, lower_bound=not args.no_lower_bound, **mesh_kwargs(args))

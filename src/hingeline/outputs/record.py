@@ -285,7 +285,7 @@ def write_report(model: Model, outdir: str | os.PathLike, nodes: int | None = No
     renamed, so a failure leaves no half-written report. Raises OSError when the
     folder cannot be written, and what `solve` raises.
     """
-    from ..solve import solve_cases
+    from ..cases import solve_cases
 
     result = solve_cases(model, nodes, mesh_size, gap=gap, time_limit=time_limit)
     text = build_report(model, result)

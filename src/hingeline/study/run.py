@@ -42,7 +42,7 @@ from typing import Callable, Iterator
 
 from ..errors import SolverError, UnstableSlabError
 from ..model import model_from_toml
-from ..solve import solve_carrying
+from ..cases import solve_carrying
 from .file import Study, StudyError
 from .order import Order, places
 from .store import Store, fingerprint, to_toml
