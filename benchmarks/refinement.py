@@ -2,6 +2,7 @@
 
     python benchmarks/refinement.py                 # all four cases, one table
     python benchmarks/refinement.py --cases clamped_square --uniform-budget 120
+    python benchmarks/refinement.py --repeat 3      # every time the median of three runs
 
 For each case the adaptive solve (hingeline.solve with the case's target gap and time limit)
 is run first; then uniform refinement (one uniform mesh after another, 150, 225, 338, ...
@@ -26,6 +27,7 @@ from __future__ import annotations
 import argparse
 import datetime
 import platform
+import statistics
 import subprocess
 import time
 from dataclasses import replace
@@ -73,12 +75,25 @@ def gap_of(r) -> float:
     return float("inf") if lb is None else (r.load_factor - lb) / r.load_factor
 
 
-def run_case(name: str, budget: float) -> dict:
+def _timed(fn, repeat: int):
+    """(the result of the first of `repeat` runs of fn, the median of their wall times in s);
+    prints a note when a repeat gives another load factor."""
+    first, times = None, []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        r = fn()
+        times.append(time.perf_counter() - t0)
+        if first is None:
+            first = r
+        elif r.load_factor != first.load_factor:
+            print(f"  note: a repeat gave load factor {r.load_factor!r} against {first.load_factor!r}")
+    return first, statistics.median(times)
+
+
+def run_case(name: str, budget: float, repeat: int = 1) -> dict:
     spec, target, limit, ref, source = CASES[name]
     model = load(spec)
-    t0 = time.perf_counter()
-    ad = hingeline.solve_cases(model, gap=target, time_limit=limit)
-    t_ad = time.perf_counter() - t0
+    ad, t_ad = _timed(lambda: hingeline.solve_cases(model, gap=target, time_limit=limit), repeat)
     reached = gap_of(ad)
     out = {"name": name, "target": target, "limit": limit, "ref": ref, "source": source, "adaptive": ad,
            "t_ad": t_ad, "gap": reached}
@@ -86,9 +101,7 @@ def run_case(name: str, budget: float) -> dict:
     want = max(reached, 0.0)
     total, nodes, last = 0.0, 150, None
     while True:
-        t1 = time.perf_counter()
-        r = hingeline.solve_cases(model, nodes=nodes)
-        dt = time.perf_counter() - t1
+        r, dt = _timed(lambda: hingeline.solve_cases(model, nodes=nodes), repeat)
         total += dt
         last = (nodes, r, dt)
         print(f"  {name}: uniform {nodes} nodes: upper {r.load_factor:.6g}, gap {100 * gap_of(r):.3f} %, "
@@ -113,10 +126,12 @@ def main() -> None:
     ap.add_argument("--cases", default=",".join(CASES), help="comma-separated case names")
     ap.add_argument("--uniform-budget", type=float, default=400.0,
                     help="most seconds spent on the uniform meshes of one case (default 400)")
+    ap.add_argument("--repeat", type=int, default=1,
+                    help="runs of every solve; times are the medians (default 1)")
     args = ap.parse_args()
-    rows = [run_case(n, args.uniform_budget) for n in args.cases.split(",")]
+    rows = [run_case(n, args.uniform_budget, max(args.repeat, 1)) for n in args.cases.split(",")]
     print(f"\nmachine: {platform.machine()}, {platform.processor() or platform.platform()}; "
-          f"date: {datetime.date.today().isoformat()}; commit: {_commit()}")
+          f"date: {datetime.date.today().isoformat()}; commit: {_commit()}; times: median of {max(args.repeat, 1)}")
     head = ("case", "target", "upper", "lower", "gap %", "ref err %", "stop", "steps", "nodes", "adaptive s",
             "uniform nodes", "uniform gap %", "uniform sum s", "uniform last s", "ratio sum", "ratio last")
     print(" | ".join(head))
