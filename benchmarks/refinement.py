@@ -148,7 +148,7 @@ def main() -> None:
             "-" if lb is None else f"{lb:.5f}", f"{100 * o['gap']:.3f}", err, ad.stop, str(len(ad.refinement)),
             str(ad.refinement[-1].nodes if ad.refinement else ad.stats.slab_nodes), f"{o['t_ad']:.1f}",
             f"{r_last.stats.slab_nodes}{reached}", f"{100 * gap_of(r_last):.3f}", f"{o['uniform_total']:.1f}",
-            f"{t_last:.1f}", f"{o['uniform_total'] / o['t_ad']:.1f}", f"{t_last / o['t_ad']:.1f}"]))
+            f"{t_last:.1f}", f"{o['uniform_total'] / o['t_ad']:.2f}", f"{t_last / o['t_ad']:.2f}"]))
     print("\nupper / lower: the lowest upper bound and highest proven lower bound of the adaptive solve; ref err: "
           "both against the reference (upper / lower). ratio sum: time of the uniform sequence 150, 225, 338, ... "
           "nodes up to the first mesh reaching the adaptive gap, over the adaptive time; ratio last: that mesh alone.")
