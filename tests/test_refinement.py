@@ -12,12 +12,14 @@ it (upper-bound and lower-bound theorems), up to the LP and cone solvers' tolera
 from __future__ import annotations
 
 import dataclasses
+import io
 import json
 
 import pytest
 
 import hingeline
 from hingeline._cli.main import main
+from hingeline._cli.report import print_summary
 from hingeline.outputs.result_json import write_outputs
 from hingeline.verify import verify_result
 
@@ -157,6 +159,9 @@ def test_a_load_case_that_cannot_govern_is_not_refined():
     assert len(r.refinement) >= 2
     assert lower <= 2 * FOX <= upper
     assert lower > r.load_factor
+    out = io.StringIO()
+    print_summary(r, [], out=out)
+    assert "'other'" in out.getvalue() and "(cannot govern: lower bound above the governing load factor)" in out.getvalue()
 
 
 def test_a_load_case_that_may_govern_is_refined_from_the_governing_mesh():

@@ -61,7 +61,13 @@ def print_summary(result: Result, paths: list[Path], out=None) -> None:
     lowers = result.case_lower_bounds or (None,) * len(result.cases)
     for (name, lf), lb in zip(result.cases, lowers):
         lb_text = f"  lower bound {load_factor_text(lb)}" if lb is not None else ""
-        p(f"  case {name!r:30s} load factor {load_factor_text(lf)}{lb_text}{'  <- governs' if name == result.case else ''}")
+        if name == result.case:
+            mark = "  <- governs"
+        elif lb is not None and lb > result.load_factor:
+            mark = "  (cannot govern: lower bound above the governing load factor)"
+        else:
+            mark = ""
+        p(f"  case {name!r:30s} load factor {load_factor_text(lf)}{lb_text}{mark}")
     governing = f" (load case {result.case!r})" if result.case else ""
     p(f"load factor = {load_factor_text(result.load_factor)}{governing}  (upper bound: collapse factor of the mechanism found)")
     lb = result.lower_bound
