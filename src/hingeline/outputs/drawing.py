@@ -52,7 +52,7 @@ COLOUR_BAR_PAD = 0.12
 LEGEND_DROP = 36.0
 
 
-def _agg_figure(size: tuple[float, float]) -> Figure:
+def agg_figure(size: tuple[float, float]) -> Figure:
     """A constrained-layout Figure of `size` inches with its Agg canvas (no display)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
@@ -63,13 +63,13 @@ def _agg_figure(size: tuple[float, float]) -> Figure:
 
 def new_axes(projection: str | None = None) -> Axes:
     """One Axes on a new FIGURE_SIZE figure with an Agg canvas (projection "3d" for a 3-D one)."""
-    return _agg_figure(FIGURE_SIZE).add_subplot(projection=projection)
+    return agg_figure(FIGURE_SIZE).add_subplot(projection=projection)
 
 
 def file_figure(size: tuple[float, float] = FIGURE_SIZE) -> Figure:
     """A Figure of `size` inches for a file, its layout leaving a strip along the bottom for
     `add_caution_footer` (FOOTER_STRIP of the height)."""
-    fig = _agg_figure(size)
+    fig = agg_figure(size)
     fig.get_layout_engine().set(rect=(0.0, FOOTER_STRIP, 1.0, 1.0 - FOOTER_STRIP))
     return fig
 

@@ -193,9 +193,9 @@ def _refinement_svg(result: Result) -> str | None:
     steps = result.refinement
     if len(steps) < 2:
         return None
-    from .drawing import _agg_figure
+    from .drawing import agg_figure
 
-    fig = _agg_figure((5.0, 3.0))
+    fig = agg_figure((5.0, 3.0))
     ax = fig.add_subplot()
     n = [st.nodes for st in steps]
     ax.plot(n, [st.load_factor for st in steps], "o-", color="#8b1a1a", label="upper bound (mechanism)")

@@ -31,7 +31,7 @@ class Layout:
     at_rest: np.ndarray
 
 
-def _signed_area(P: np.ndarray) -> float:
+def signed_area(P: np.ndarray) -> float:
     x, y = P[:, 0], P[:, 1]
     return 0.5 * float(np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y))
 
@@ -51,7 +51,7 @@ def layout_of(rings_xy, planes, at_rest, size: float) -> Layout:
         for j, r in enumerate(rr):
             idx = inv[k:k + len(r)]
             k += len(r)
-            if (_signed_area(points[idx]) > 0) != (j == 0):
+            if (signed_area(points[idx]) > 0) != (j == 0):
                 idx = idx[::-1]
             out.append(idx)
         rings.append(out)

@@ -39,7 +39,7 @@ import numpy as np
 
 from ..model import Model
 from .layout import Layout
-from .problem import _Problem
+from .problem import PatternProblem
 
 log = logging.getLogger(__name__)
 
@@ -153,7 +153,7 @@ def optimise_layout(model: Model, lay: Layout, size: float, budget: float = TIME
     optimiser finds nothing to gain."""
     from scipy.optimize import minimize
 
-    prob = _Problem(model, lay, size)
+    prob = PatternProblem(model, lay, size)
     if not prob.loads:
         return None
     z0 = prob.pack(lay.points, lay.planes)

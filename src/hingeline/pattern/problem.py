@@ -16,8 +16,8 @@ import shapely
 from ..check.regions import ground
 from ..model import Model
 from ..model.criterion import capacity_at
-from ..upper.certificate import _supported_edges, slab_region
-from .layout import Layout, _signed_area
+from ..upper.certificate import supported_edge_segments, slab_region
+from .layout import Layout, signed_area
 
 log = logging.getLogger(__name__)
 
@@ -25,7 +25,7 @@ log = logging.getLogger(__name__)
 MOVE_LIMIT = 0.35
 
 
-class _Problem:
+class PatternProblem:
     """The optimisation problem of one layout (see the module docstring)."""
 
     def __init__(self, model: Model, lay: Layout, size: float):
@@ -34,7 +34,7 @@ class _Problem:
         tol = 1e-7 * size
         self.origin = P.min(axis=0)
         segs = boundary_segments(model)
-        dist, t = _seg_dist(P, segs)
+        dist, t = segment_projection(P, segs)
         on = dist <= tol
         end = on & ((t <= 1e-9) | (t >= 1 - 1e-9))
         self.kind = np.zeros(len(P), int)            # 0 free, 1 sliding, 2 fixed
@@ -47,8 +47,8 @@ class _Problem:
                 self.kind[i] = 1
                 self.seg[i] = int(np.flatnonzero(on[i])[0])
         self.t0 = np.where(self.kind == 1, t[np.arange(len(P)), np.maximum(self.seg, 0)], 0.0)
-        sup, share = _supported_edges(model)
-        sd, _ = _seg_dist(P, sup)
+        sup, share = supported_edge_segments(model)
+        sd, _ = segment_projection(P, sup)
         self.grounded = (sd <= tol).any(axis=1)
         self.moving = np.flatnonzero(~lay.at_rest)
         self.nfree = int((self.kind == 0).sum())
@@ -92,8 +92,8 @@ class _Problem:
             s = owner.get((b, a))
             if s is None:
                 pa, pb = P[a], P[b]
-                da, _ = _seg_dist(pa[None], sup)
-                db, _ = _seg_dist(pb[None], sup)
+                da, _ = segment_projection(pa[None], sup)
+                db, _ = segment_projection(pb[None], sup)
                 both = (da[0] <= tol) & (db[0] <= tol)
                 f = float(share[both].max(initial=0.0))
                 if f > 0:
@@ -112,13 +112,13 @@ class _Problem:
                 c = np.asarray(tri.exterior.coords)[:3]
                 d = np.hypot(*(P[idx][None, :, :] - c[:, None, :]).transpose(2, 0, 1))
                 k = idx[np.argmin(d, axis=1)]
-                if _signed_area(P[k]) < 0:
+                if signed_area(P[k]) < 0:
                     k = k[::-1]
                 tris.append(k)
                 treg.append(r)
         self.tris = np.array(tris, int).reshape(-1, 3)
         self.treg = np.array(treg, int)
-        self.area0 = np.array([_signed_area(P[k]) for k in self.tris])
+        self.area0 = np.array([signed_area(P[k]) for k in self.tris])
         self.point_tris = [np.flatnonzero((self.tris == i).any(axis=1)) for i in range(len(P))]
         # Loads: a load over the whole slab is integrated exactly per triangle; others by
         # clipping triangles with the load's polygon; point and line loads located.
@@ -427,7 +427,7 @@ def boundary_segments(model: Model) -> np.ndarray:
     return np.concatenate([np.stack([r, np.roll(r, -1, axis=0)], axis=1) for r in rings])
 
 
-def _seg_dist(P: np.ndarray, segs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def segment_projection(P: np.ndarray, segs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Distances (p, s) of points to segments and the parameter of the nearest point."""
     a, b = segs[:, 0], segs[:, 1]
     d = b - a

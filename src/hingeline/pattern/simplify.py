@@ -20,9 +20,9 @@ import numpy as np
 import shapely
 
 from ..model import Model
-from .layout import Layout, _signed_area, layout_of
-from .problem import _Problem
-from .tidy import _on_boundary, _restore
+from .layout import Layout, signed_area, layout_of
+from .problem import PatternProblem
+from .tidy import on_boundary, make_compatible
 
 log = logging.getLogger(__name__)
 
@@ -46,7 +46,7 @@ def _sides(ring: np.ndarray) -> set[tuple[int, int]]:
 
 
 def _region_area(P: np.ndarray, rr) -> float:
-    return abs(_signed_area(P[rr[0]])) - sum(abs(_signed_area(P[h])) for h in rr[1:])
+    return abs(signed_area(P[rr[0]])) - sum(abs(signed_area(P[h])) for h in rr[1:])
 
 
 def merge_groups(lay: Layout, slab_area: float, frac: float) -> np.ndarray:
@@ -87,7 +87,7 @@ def merge_groups(lay: Layout, slab_area: float, frac: float) -> np.ndarray:
 def simplify_layout(model: Model, lay: Layout, size: float, group: np.ndarray) -> Layout | None:
     """`lay` with its regions merged by `group` (`merge_groups`: the group of each region), the
     points inside the slab that then join only two regions dropped (the boundary of two
-    planes is a straight line), and planes and points made compatible (tidy._restore);
+    planes is a straight line), and planes and points made compatible (tidy.make_compatible);
     None when nothing merges or the result is not a valid pattern."""
     if np.all(group == np.arange(len(group))):
         return None
@@ -112,7 +112,7 @@ def simplify_layout(model: Model, lay: Layout, size: float, group: np.ndarray) -
     out = _straighten(model, out, size)
     if out is None:
         return None
-    out = _restore(_Problem(model, out, size), out, unfolded=True)
+    out = make_compatible(PatternProblem(model, out, size), out, unfolded=True)
     if out is None or not _simple(out, float(sum(_region_area(P, rr) for rr in lay.rings))):
         return None
     return out
@@ -124,7 +124,7 @@ def _simple(lay: Layout, area: float) -> bool:
     total = 0.0
     for rr in lay.rings:
         poly = shapely.Polygon(lay.points[rr[0]], [lay.points[h] for h in rr[1:]])
-        if not poly.is_valid or _signed_area(lay.points[rr[0]]) <= 0:
+        if not poly.is_valid or signed_area(lay.points[rr[0]]) <= 0:
             log.info("simplified pattern: a region folds over once the planes are made to fit")
             return False
         total += poly.area
@@ -144,7 +144,7 @@ def _straighten(model: Model, lay: Layout, size: float) -> Layout | None:
             np.maximum.at(turn, ring, np.abs(np.arctan2(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0], (u * v).sum(1))))
         for i in np.unique(np.concatenate(rr)):
             holders[i] += 1
-    edge = _on_boundary(model, P, size)
+    edge = on_boundary(model, P, size)
     drop = ((holders <= 2) & ~edge) | ((holders == 1) & edge & (turn <= STRAIGHT_TURN))
     rings_xy = []
     for rr in lay.rings:

@@ -23,7 +23,7 @@ import numpy as np
 import shapely
 
 from ..model import Model
-from ..upper.certificate import _gradients, hinges, slab_region
+from ..upper.certificate import plane_gradients, hinges, slab_region
 
 
 @dataclass(frozen=True)
@@ -73,7 +73,7 @@ def region_rows(model: Model, cp) -> tuple[list[RegionRow], dict]:
     V, T, w = mech.vertices, mech.triangles, mech.w
     wmax = float(np.abs(w).max(initial=0.0)) or 1.0
     w = w / wmax
-    g, tri_area = _gradients(V, T, w)
+    g, tri_area = plane_gradients(V, T, w)
     size = float(np.hypot(*np.ptp(V, axis=0)))
     cent = V[T].mean(axis=1)
     label = np.full(len(T), -1)

@@ -14,12 +14,12 @@ import shapely
 
 from ..model import Model
 from ..upper.certificate import slab_region
-from .layout import Layout, _signed_area, layout_of
-from .problem import _Problem, _seg_dist, boundary_segments
+from .layout import Layout, signed_area, layout_of
+from .problem import PatternProblem, segment_projection, boundary_segments
 
 log = logging.getLogger(__name__)
 
-#: Largest misfit of the planes at a shared point after `_restore`, as a fraction of the
+#: Largest misfit of the planes at a shared point after `make_compatible`, as a fraction of the
 #: largest w (the hand check refuses 1e-8).
 RESTORE_TOL = 1e-10
 #: Points closer than this fraction of the slab's size after optimisation are merged.
@@ -42,7 +42,7 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
     """Merge points that meet (closer than `merge` of the size), drop regions and rings that
     vanished (area below `sliver` of the slab's), drop points inside the slab joining two
     regions only where the line turns by at most `bend` rad, and make the planes and points
-    exactly compatible (`_restore`)."""
+    exactly compatible (`make_compatible`)."""
     tol = merge * size
     n = len(P)
     parent = np.arange(n)
@@ -73,7 +73,7 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
         for j, ring in enumerate(rr):
             idx = _despike(root[ring])
             # A ring that closed up has vanished; a sliver left of a region joins a neighbour.
-            if len(idx) < 3 or abs(_signed_area(P2[idx])) <= 1e-12 * slab_area:
+            if len(idx) < 3 or abs(signed_area(P2[idx])) <= 1e-12 * slab_area:
                 if j == 0:
                     new = []
                     break
@@ -81,7 +81,7 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
             new.append(idx)
         if not new:
             continue
-        if abs(_signed_area(P2[new[0]])) <= sliver * slab_area and len(new) == 1:
+        if abs(signed_area(P2[new[0]])) <= sliver * slab_area and len(new) == 1:
             slivers.append(new)
         else:
             kept.append((new, r))
@@ -91,7 +91,7 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
     # Points inside the slab that no longer join three regions are bends of a line between
     # two planes (which is straight) or corners of a vanished sliver: they go when the turn
     # there is small.
-    free = ~_on_boundary(model, P2, size)
+    free = ~on_boundary(model, P2, size)
     for _ in range(3):
         holders = np.zeros(len(P2), int)
         for new, _r in kept:
@@ -109,16 +109,16 @@ def tidy(model: Model, lay: Layout, P: np.ndarray, C: np.ndarray, size: float,
             break
         kept = [([idx[~drop[idx]] for idx in new if (~drop[idx]).sum() >= 3], r) for new, r in kept]
         kept = [(new, r) for new, r in kept if new and len(new[0]) >= 3
-                and abs(_signed_area(P2[new[0]])) > sliver * slab_area]
+                and abs(signed_area(P2[new[0]])) > sliver * slab_area]
     rings_xy = [[P2[idx] for idx in new] for new, _ in kept]
     planes = [C[r] for _, r in kept]
     rest = [lay.at_rest[r] for _, r in kept]
     out = layout_of(rings_xy, np.array(planes), np.array(rest), size)
-    prob = _Problem(model, out, size)
-    return _restore(prob, out)
+    prob = PatternProblem(model, out, size)
+    return make_compatible(prob, out)
 
 
-def _restore(prob: _Problem, lay: Layout, unfolded: bool = False) -> Layout | None:
+def make_compatible(prob: PatternProblem, lay: Layout, unfolded: bool = False) -> Layout | None:
     """The layout made exactly compatible by alternating projections: the planes projected
     onto the compatible motions of the current points, then each movable point put where its
     regions' planes meet (least squares), until the planes fit to RESTORE_TOL of the largest
@@ -127,7 +127,7 @@ def _restore(prob: _Problem, lay: Layout, unfolded: bool = False) -> Layout | No
     P = lay.points.copy()
     cur = lay
     for it in range(60):
-        if unfolded and it and min(_signed_area(P[rr[0]]) for rr in lay.rings) <= 0:
+        if unfolded and it and min(signed_area(P[rr[0]]) for rr in lay.rings) <= 0:
             log.info("simplified pattern: a region turns over while the planes are made to fit")
             return None
         planes = _project(prob, cur, rtol=1e-12 if it > 40 else 1e-7)
@@ -143,7 +143,7 @@ def _restore(prob: _Problem, lay: Layout, unfolded: bool = False) -> Layout | No
     return None
 
 
-def _place_points(prob: _Problem, P: np.ndarray, C: np.ndarray) -> np.ndarray:
+def _place_points(prob: PatternProblem, P: np.ndarray, C: np.ndarray) -> np.ndarray:
     """Each free or sliding point moved to the least-squares meeting point of its rows."""
     P = P.copy()
     if not len(prob.rows):
@@ -222,9 +222,9 @@ def _absorb(kept, slivers, P, size):
     return kept
 
 
-def _on_boundary(model: Model, P: np.ndarray, size: float) -> np.ndarray:
+def on_boundary(model: Model, P: np.ndarray, size: float) -> np.ndarray:
     """Points on the outline, an opening or a support face."""
-    d, _ = _seg_dist(P, boundary_segments(model))
+    d, _ = segment_projection(P, boundary_segments(model))
     return (d <= 1e-7 * size).any(axis=1)
 
 
@@ -250,7 +250,7 @@ def _thin(rings_xy, size):
     return [[ring[[keep[tuple(p)] for p in ring]] for ring in rr] for rr in rings_xy]
 
 
-def _project(prob: _Problem, lay: Layout, rtol: float = 1e-10) -> np.ndarray | None:
+def _project(prob: PatternProblem, lay: Layout, rtol: float = 1e-10) -> np.ndarray | None:
     """Planes closest to `lay.planes` (least squares) meeting the compatibility rows exactly
     at the fixed geometry; None when only w = 0 would."""
     mv = prob.moving

@@ -34,7 +34,7 @@ from .candidates import crossings, split_pieces
 CERTIFICATE_RTOL = 1e-6
 
 
-def _gradients(V, T, w):
+def plane_gradients(V, T, w):
     """Slopes (t, 2) of the P1 field on each triangle and the triangles' areas (t,), m2."""
     P = V[T]
     d1, d2 = P[:, 1] - P[:, 0], P[:, 2] - P[:, 0]
@@ -45,7 +45,7 @@ def _gradients(V, T, w):
     return np.stack([gx, gy], axis=1), 0.5 * np.abs(det)
 
 
-def _supported_edges(model: Model) -> tuple[np.ndarray, np.ndarray]:
+def supported_edge_segments(model: Model) -> tuple[np.ndarray, np.ndarray]:
     """Supported outline edges and faces of columns and walls (s, 2, 2), and the share of the
     hogging capacity each mobilises (s,): the fixity of a continuous edge, 1 at a monolithic
     support, 0 where the slab rotates freely."""
@@ -92,7 +92,7 @@ def hinges(model: Model, mech: Mechanism) -> tuple[np.ndarray, np.ndarray, np.nd
     """Every interior triangle edge of the field and every edge on a support, as (start
     (h, 2) m, end (h, 2) m, theta (h,) rad, > 0 sagging, plastic work (h,) kNm)."""
     V, T, w = mech.vertices, mech.triangles, mech.w
-    g, _ = _gradients(V, T, w)
+    g, _ = plane_gradients(V, T, w)
     ntri = len(T)
     e = np.concatenate([T[:, [0, 1]], T[:, [1, 2]], T[:, [2, 0]]])
     opp = np.concatenate([T[:, 2], T[:, 0], T[:, 1]])
@@ -132,7 +132,7 @@ def hinges(model: Model, mech: Mechanism) -> tuple[np.ndarray, np.ndarray, np.nd
     # Boundary edges: supported ones hinge against the flat ground (w = 0, zero slope).
     idx = np.flatnonzero(single)
     a, b = e[idx, 0], e[idx, 1]
-    sup_edges, share = _supported_edges(model)
+    sup_edges, share = supported_edge_segments(model)
     tol = _tolerance(model)
     on = (segment_distance(V[a], sup_edges) <= tol) & (segment_distance(V[b], sup_edges) <= tol)
     factor = (on * share[None, :]).max(axis=1, initial=0.0)
@@ -160,7 +160,7 @@ def load_work(model: Model, mech: Mechanism) -> tuple[float, float]:
 def work_per_load(model: Model, mech: Mechanism) -> list[float]:
     """Work of each load of model.loads on the field, kNm (exact for P1), in model order."""
     V, T, w = mech.vertices, mech.triangles, mech.w
-    g, tri_area = _gradients(V, T, w)
+    g, tri_area = plane_gradients(V, T, w)
     polys = shapely.polygons(V[T])
     tol = 0.1 * _tolerance(model)
     slab = slab_region(model)
@@ -231,12 +231,12 @@ def check_mechanism(model: Model, mech: Mechanism) -> CertificateCheck:
     """Recompute the load factor of `mech` from the field alone (see module docstring)."""
     internal = internal_work(model, mech)
     factored, held = load_work(model, mech)
-    sup_edges, _ = _supported_edges(model)
+    sup_edges, _ = supported_edge_segments(model)
     on_sup = (segment_distance(mech.vertices, sup_edges) <= _tolerance(model)).any(axis=1)
     max_w = float(np.abs(mech.w[on_sup]).max(initial=0.0))
     bearings = np.array([sp.centre for sp in model.supports if sp.bearing], float).reshape(-1, 2)
     if len(bearings):
-        g, _ = _gradients(mech.vertices, mech.triangles, mech.w)
+        g, _ = plane_gradients(mech.vertices, mech.triangles, mech.w)
         max_w = max(max_w, float(np.abs(_field_at(mech.vertices, mech.triangles, mech.w, g, bearings)).max()))
     lf = (internal - held) / factored if factored > 0 else float("nan")
     return CertificateCheck(lf, internal, factored, held, max_w)
