@@ -122,6 +122,24 @@ def test_load_cases_are_designed_case_by_case():
     assert d.safe_scale >= d.scale * (1 - 1e-6)
 
 
+def test_refined_design_leaves_a_case_that_cannot_govern_at_its_first_mesh():
+    # Clamped square (Fox 1974, exact: q = 42.851 m / L^2): storage (72 kPa) needs m = 72 / 42.851,
+    # office (48 kPa) m = 48 / 42.851. Refined to a 2 % gap, each case's scale and proven scale
+    # bracket its exact value; the office case's proven scale is below the storage case's scale,
+    # which proves it cannot govern.
+    fox = 42.851
+    model = hingeline.model_from_toml(CASES.replace('edges = "simple"', 'edges = "continuous"')
+                                      .replace("[analysis]\nnodes = 150\n", ""))
+    assert model.analysis.nodes is None
+    d = required_scale(model, gap=0.02)
+    assert d.case == "storage use"
+    assert d.scale <= 72.0 / fox <= d.safe_scale
+    table = {name: (scale, safe) for name, scale, safe in d.cases}
+    office, office_safe = table["office use"]
+    assert office <= 48.0 / fox <= office_safe < d.scale
+    assert d.result.stop == "gap" and len(d.result.refinement) >= 2
+
+
 def test_design_command_names_the_governing_case_and_both_scales(tmp_path, capsys):
     from hingeline._cli.main import main
 

@@ -1,7 +1,7 @@
 """Design mode: the capacity scale that reaches a target load factor, and bar proposals.
 
 Public names: `required_scale`. Units: kNm/m, mm (bar spacings).
-May import: `hingeline.model`, `hingeline.solve`, `hingeline.result`, `hingeline.errors`.
+May import: `hingeline.model`, `hingeline.solve`, `hingeline.cases`, `hingeline.result`, `hingeline.errors`.
 """
 from .scale import required_scale
 

@@ -26,7 +26,8 @@ are tried, and none is reported if none is proven.
 
 With load cases ([[case]]), the slab must reach the target under each of them: s and
 s_safe are computed case by case and the largest of each governs (the case of the
-largest s is named).
+largest s is named). When all capacities scale, one solve of every case at the target
+loads gives them all (hingeline.solve_cases, with its rule for cases that cannot govern).
 
 With a bar schedule, each layer's spacing is then reduced (in 25 mm steps, the
 diameter kept, or the next diameter up if needed) until its EN 1992-1-1 moment
@@ -39,6 +40,7 @@ from dataclasses import dataclass, replace
 
 from ..errors import ModelError
 from ..model import Model, eurocode, model_for_case
+from ..cases import solve_cases
 from ..result import Result
 from ..solve import solve
 from ..upper.certificate import internal_work
@@ -99,6 +101,8 @@ def required_scale(model: Model, target: float = 1.0, nodes: int | None = None,
     mesh = {"nodes": nodes, "mesh_size": mesh_size, "gap": gap, "time_limit": time_limit}
     if not model.cases:
         return _required_scale(model, model, target, mesh, scaled)
+    if scaled == "all":
+        return _all_cases_scaled(model, target, mesh)
     each = [(case.name, _required_scale(model_for_case(model, case), model, target, mesh, scaled))
             for case in model.cases]
     name, governing = max(each, key=lambda nd: nd[1].scale)
@@ -121,11 +125,33 @@ def with_scale(model: Model, s: float, scaled: str) -> Model:
     return replace(model, capacity=cap, zones=zones)
 
 
-def _required_scale(model: Model, whole: Model, target: float, mesh: dict, scaled: str) -> DesignResult:
-    """required_scale of `model` (no cases); bar proposals from `whole`'s bar schedule."""
+def _at_target(model: Model, target: float) -> Model:
+    """`model` under the single load set target x scaled loads + held loads, all of it scaled."""
     loads = tuple(replace(ld, value=ld.value * target if ld.factored else ld.value, factored=True)
                   for ld in model.loads)
-    at_target = replace(model, loads=loads)
+    return replace(model, loads=loads)
+
+
+def _all_cases_scaled(model: Model, target: float, mesh: dict) -> DesignResult:
+    """required_scale of a model with load cases when every capacity scales: each case's
+    scale is 1 / its load factor at the target loads and its proven scale 1 / its lower
+    bound, so one solve_cases gives them all. Under refinement it refines the governing case
+    and leaves a case whose lower bound is above the governing load factor at its first mesh
+    (cases.py): that case's proven scale is then below the governing scale, so it changes
+    neither the governing nor the proven scale."""
+    result = solve_cases(_at_target(model, target), **mesh)
+    lowers = result.case_lower_bounds or (None,) * len(result.cases)
+    cases = tuple((n, 1.0 / lf, 1.0 / lb if lb else None) for (n, lf), lb in zip(result.cases, lowers))
+    safes = [safe for _, _, safe in cases]
+    safe = None if any(v is None for v in safes) else max(safes)
+    scale = 1.0 / result.load_factor
+    return replace(_with_proposals(model, scale, safe, DesignResult(scale, target, result)),
+                   case=result.case, cases=cases)
+
+
+def _required_scale(model: Model, whole: Model, target: float, mesh: dict, scaled: str) -> DesignResult:
+    """required_scale of `model` (no cases); bar proposals from `whole`'s bar schedule."""
+    at_target = _at_target(model, target)
     if scaled == "all":
         result = solve(at_target, **mesh)
         scale = 1.0 / result.load_factor
