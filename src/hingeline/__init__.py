@@ -9,10 +9,10 @@ Public API::
 
 Units: m, kN, kNm/m, kPa. The load factor is an upper bound (collapse mechanism).
 """
+from .cases import solve_cases
 from .errors import HingelineError, ModelError, SolverError, UnstableSlabError
 from .model import Model, model_from_toml, parse_model, read_model
 from .result import Result
-from .cases import solve_cases
 from .solve import solve
 from .upper.certificate import check_mechanism
 

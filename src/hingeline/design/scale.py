@@ -38,9 +38,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from ..cases import solve_cases
 from ..errors import ModelError
 from ..model import Model, eurocode, model_for_case
-from ..cases import solve_cases
 from ..result import Result
 from ..solve import solve
 from ..upper.certificate import internal_work
