@@ -20,7 +20,7 @@ renders in memory and only then writes OUTDIR/report.html.
 refinement history, lower bound) as plain Python values, for tests and other callers.
 
 Units: lengths m, moments kNm/m, area loads kPa, work kNm, time s.
-May import: `model`, `result`, `solve` and the other `outputs` modules (plots,
+May import: `model`, `result`, `solve`, `cases` and the other `outputs` modules (plots,
 result_json, record_model, record_tables); jinja2 and matplotlib.
 """
 from __future__ import annotations

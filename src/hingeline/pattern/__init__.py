@@ -297,4 +297,3 @@ def _read_pattern(model: Model, mech: Mechanism, raw_load_factor: float) -> Clea
         names=tuple(region_names(regions)), rings=tuple(tuple(r) for r in rings), lines=tuple(lines),
         fans=tuple(find_fans(lines, region_junctions(mech, regions), size)), mechanism=hc.mechanism, internal=hc.internal,
         hand_pattern=text, clean_load_factor=hc.load_factor)
-

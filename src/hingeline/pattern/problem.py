@@ -16,7 +16,7 @@ import shapely
 from ..check.regions import ground
 from ..model import Model
 from ..model.criterion import capacity_at
-from ..upper.certificate import supported_edge_segments, slab_region
+from ..upper.certificate import slab_region, supported_edge_segments
 from .layout import Layout, signed_area
 
 log = logging.getLogger(__name__)

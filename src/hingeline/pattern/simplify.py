@@ -20,9 +20,9 @@ import numpy as np
 import shapely
 
 from ..model import Model
-from .layout import Layout, signed_area, layout_of
+from .layout import Layout, layout_of, signed_area
 from .problem import PatternProblem
-from .tidy import on_boundary, make_compatible
+from .tidy import make_compatible, on_boundary
 
 log = logging.getLogger(__name__)
 

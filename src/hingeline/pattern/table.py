@@ -23,7 +23,7 @@ import numpy as np
 import shapely
 
 from ..model import Model
-from ..upper.certificate import plane_gradients, hinges, slab_region
+from ..upper.certificate import hinges, plane_gradients, slab_region
 
 
 @dataclass(frozen=True)

@@ -14,8 +14,8 @@ import shapely
 
 from ..model import Model
 from ..upper.certificate import slab_region
-from .layout import Layout, signed_area, layout_of
-from .problem import PatternProblem, segment_projection, boundary_segments
+from .layout import Layout, layout_of, signed_area
+from .problem import PatternProblem, boundary_segments, segment_projection
 
 log = logging.getLogger(__name__)
 

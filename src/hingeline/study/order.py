@@ -1,5 +1,5 @@
 """The order in which a study's variants are solved, so that each can start from the active
-lines of a solved neighbour (run.py hands them on; solve.py `solve_carrying` takes them).
+lines of a solved neighbour (run.py hands them on; cases.py `solve_carrying` takes them).
 
 Places. A variant's place is a point of grid indices: the opening's centroid in steps
 (x / step, y / step), the index of its size factor and the index of each swept value.

@@ -10,7 +10,7 @@ Reuse. On one uniform mesh (nodes or mesh_size, from the options or the model), 
 variant also returns the end points (m) of its mechanism's active lines, and this process
 hands them to the next variant it submits: order.py picks the waiting variant nearest to
 the one just solved and the nearest solved variant's lines, which go into the first LP of
-its solve (solve.py `solve_carrying`). Only the speed changes: the LP stops only when
+its solve (cases.py `solve_carrying`). Only the speed changes: the LP stops only when
 pricing proves its optimum over every admissible line. Under adaptive refinement nothing is
 handed on (the first mesh's vertex steers the refinement). The fingerprint does not cover
 reuse, so a study resumes either way.
@@ -19,11 +19,11 @@ Threads. Local workers are separate processes started (spawn) with OMP_NUM_THREA
 OPENBLAS_NUM_THREADS, MKL_NUM_THREADS and RAYON_NUM_THREADS set to 1 (WORKER_THREADS):
 the workers are the parallelism, and threaded BLAS inside each of them competed for the
 same cores (demo at 150 nodes, writing one variant's result: 2.7 to 4.4 s of CPU with
-OpenBLAS's default threads, 1.5 to 1.8 s with one). HiGHS (upper/lp.py) and Clarabel (lower/program.py) are
+OpenBLAS's default threads, 1.5 to 1.8 s with one). HiGHS (upper/highs.py) and Clarabel (lower/program.py) are
 set to one thread everywhere.
 
 Units: m for positions, seconds for times; load factors are dimensionless.
-May import: `hingeline.solve`, `hingeline.model`, `hingeline.outputs`, `hingeline.errors`,
+May import: `hingeline.cases`, `hingeline.model`, `hingeline.outputs`, `hingeline.errors`,
 the other study modules; dask.distributed only inside `connect` (an optional extra).
 """
 from __future__ import annotations
@@ -40,9 +40,9 @@ from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Callable, Iterator
 
+from ..cases import solve_carrying
 from ..errors import SolverError, UnstableSlabError
 from ..model import model_from_toml
-from ..cases import solve_carrying
 from .file import Study, StudyError
 from .order import Order, places
 from .store import Store, fingerprint, to_toml
