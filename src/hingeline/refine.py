@@ -1,11 +1,13 @@
 """Adaptive refinement: where the next mesh needs smaller elements.
 
-After each mesh is solved, the bracket between the two bounds is lost where the mechanism
-hinges (its active yield lines and fans: the DLO upper bound can only bend along node-to-node
-lines, so more nodes there give it more directions), where the lower bound's moment field is
-at its limit (yield ratio near 1: the field is stuck there and finer elements let it
-redistribute), and at the features where moments concentrate (re-entrant corners, openings,
-columns, point loads). `refinement_points` returns those places; solve.py gives them
+After each mesh is solved, the bracket between the two bounds is lost along the mechanism's
+active yield lines, and the two bounds say exactly where: the mechanism's internal work less
+the work the lower bound's moments do on its rotations is the gap (times the scaled-load
+work), made of non-negative parts (m_p - m_n) |theta| ds along the lines (`gap_parts`).
+More nodes where that is large give the DLO upper bound more directions there (it can only
+bend along node-to-node lines) and the moment field more freedom to redistribute. Features
+where moments concentrate (re-entrant corners, openings, columns, point loads) are refined
+too. `refinement_points` returns those places; solve.py gives them
 REFINE_FACTOR times the element size they have now (geometry/mesh.py SizeField) and meshes
 again. Lines that were active on one mesh are mapped to the nearest nodes of the next
 (`carried_lines`) and put in its first LP; `lines_onto` does the same for lines given by
@@ -22,23 +24,43 @@ from scipy.spatial import cKDTree
 
 from .geometry.domain import Domain
 from .geometry.mesh import SizeField
-from .lower import element_capacities, yield_ratio
+from .lower import normal_moments
 from .model import Model
+from .model.criterion import capacity_at
 from .result import LowerBound, YieldLines
 
-#: Element size at a marked place, as a fraction of the size it had. Measured (2 shared cores):
-#: clamped square to a 1.2 % gap, 0.6 gave 149 / 273 / 469 / 867 nodes and 43.093 in 31 s,
-#: 0.5 gave 149 / 357 / 858 nodes and 43.072 in 26 s; the demo to 3 %, 3.3 s either way;
-#: the podium deck to 3 %, 36 s with 0.6 (three steps) and 17 s with 0.5 (two).
+#: Element size at a marked place, as a fraction of the size it had. Measured (2 cores, one
+#: run each): clamped square to a 0.7 % gap, 0.4 gave 149 / 230 / 431 / 780 nodes and 42.954
+#: (gap 0.37 %) in 17.9 s, 0.5 gave 149 / 203 / 290 / 457 nodes and 43.038 (0.63 %) in 9.1 s,
+#: 0.6 six meshes up to 557 nodes and 42.996 (0.49 %) in 15.8 s; the podium deck to 3 %,
+#: 5.3 / 5.6 / 9.8 s (two steps with 0.4 and 0.5, three with 0.6).
 REFINE_FACTOR = 0.5
-#: A lower-bound triangle is "at its limit" when its largest yield ratio at the six node
-#: points of its field is at least this.
-AT_LIMIT = 0.98
-#: At most this share of the lower bound's triangles is marked (those with the largest
-#: ratios): where the whole field is at its limit, the yield lines pick the places.
-LIMIT_SHARE = 0.25
+#: Share of the bound gap (see gap_parts) whose places along the yield lines are refined.
+GAP_SHARE = 0.8
 #: A stepping of the bracket below this factor of the previous one counts as narrowing it.
 NARROWING = 0.95
+
+
+def _along(lines: YieldLines, field: SizeField, ends: bool = True) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Points (p, 2) along every active yield line, about half the local element size apart,
+    the line each is on (p,) and the length each stands for (p,): both ends and the points
+    between (trapezoidal rule), or with ends=False the mid-points of the pieces between
+    (mid-point rule: no point at a node, where the moments of the triangles around it differ)."""
+    a, b = np.asarray(lines.start, float), np.asarray(lines.end, float)
+    length = np.hypot(*(b - a).T)
+    pieces = np.maximum(1, np.ceil(length / (0.5 * field.at(0.5 * (a + b)))).astype(int))
+    if ends:
+        t = np.concatenate([np.linspace(0.0, 1.0, k + 1) for k in pieces])
+        i = np.repeat(np.arange(len(a)), pieces + 1)
+        ds = np.repeat(length / pieces, pieces + 1)
+        last = np.cumsum(pieces + 1) - 1
+        ds[last] *= 0.5
+        ds[last - pieces] *= 0.5
+    else:
+        t = np.concatenate([(np.arange(k) + 0.5) / k for k in pieces])
+        i = np.repeat(np.arange(len(a)), pieces)
+        ds = np.repeat(length / pieces, pieces)
+    return a[i] + t[:, None] * (b - a)[i], i, ds
 
 
 def line_points(lines: YieldLines, field: SizeField) -> np.ndarray:
@@ -46,33 +68,47 @@ def line_points(lines: YieldLines, field: SizeField) -> np.ndarray:
     (both ends included)."""
     if not len(lines):
         return np.zeros((0, 2))
-    a, b = np.asarray(lines.start, float), np.asarray(lines.end, float)
-    h = field.at(0.5 * (a + b))
-    n = np.maximum(2, np.ceil(np.hypot(*(b - a).T) / (0.5 * h)).astype(int) + 1)
-    t = np.concatenate([np.linspace(0.0, 1.0, k) for k in n])
-    i = np.repeat(np.arange(len(a)), n)
-    return a[i] + t[:, None] * (b - a)[i]
+    return _along(lines, field)[0]
 
 
-def limit_points(model: Model, lower: LowerBound | None) -> np.ndarray:
-    """Centroids (p, 2) of the lower bound's triangles at their limit (see AT_LIMIT and
-    LIMIT_SHARE); none without a field."""
-    field = None if lower is None else lower.field
-    if field is None or not len(field.triangles):
-        return np.zeros((0, 2))
-    p = np.asarray(field.nodes, float)[np.asarray(field.triangles, int)]
-    cap = element_capacities(model, p.mean(axis=1))
-    ratio = yield_ratio(np.asarray(field.moments, float).reshape(-1, 3), np.repeat(cap, 6, axis=0),
-                        model.capacity.bar_angle).reshape(-1, 6)
-    worst = np.nan_to_num(ratio, posinf=1.0).max(axis=1)
-    scale = float(worst.max(initial=0.0))
-    if scale <= 0:
-        return np.zeros((0, 2))
-    hot = np.flatnonzero(worst >= AT_LIMIT * scale)
-    keep = max(1, int(LIMIT_SHARE * len(worst)))
-    if len(hot) > keep:
-        hot = hot[np.argsort(-worst[hot])[:keep]]
-    return p[hot].mean(axis=1)
+def gap_parts(model: Model, domain: Domain, lines: YieldLines, lower: LowerBound,
+              field: SizeField) -> tuple[np.ndarray, np.ndarray]:
+    """Where the bracket is lost, by the bound gap's own split: points (p, 2) of
+    the lines (mid-points of pieces about half the element size long) and, at each, the mechanism's internal work less the work of the lower
+    bound's moments on its rotations, (m_p - m_n) |theta| ds (kNm; m_p the line's capacity
+    for the sign of its rotation, m_n the field's normal moment, sagging positive, ds the
+    length the point stands for). Each part is >= 0 because the field is inside the yield
+    criterion; summed, they are (upper - lower) times the scaled-load work, by virtual work
+    (the field is in equilibrium with the lower bound's loads, the rotations are a mechanism)
+    up to the mid-point rule along the lines. Lines in the fill (openings, beyond free
+    edges) have no strength and lose nothing."""
+    if not len(lines):
+        return np.zeros((0, 2)), np.zeros(0)
+    pts, i, ds = _along(lines, field, ends=False)
+    t = (np.asarray(lines.end, float) - np.asarray(lines.start, float))[i]
+    normal = np.stack([-t[:, 1], t[:, 0]], axis=1) / np.hypot(*t.T)[:, None]
+    plus, minus = capacity_at(model, pts, normal, domain.tol)
+    m_n = normal_moments(lower.field, pts, normal, domain.tol)
+    outside = np.isnan(m_n)
+    m_n = np.where(outside, 0.0, m_n)
+    lost = np.where(np.asarray(lines.sagging, bool)[i], plus - m_n, minus + m_n)
+    return pts, np.where(outside, 0.0, lost) * np.asarray(lines.rotation, float)[i] * ds
+
+
+def gap_points(model: Model, domain: Domain, lines: YieldLines, lower: LowerBound | None,
+               field: SizeField) -> np.ndarray:
+    """The points of `gap_parts` that hold GAP_SHARE of the gap, largest parts first (all of
+    `line_points` when there is no lower-bound field)."""
+    if lower is None or lower.field is None or not len(lower.field.triangles):
+        return line_points(lines, field)
+    pts, lost = gap_parts(model, domain, lines, lower, field)
+    lost = np.maximum(lost, 0.0)
+    total = lost.sum()
+    if not total > 0:
+        return pts
+    order = np.argsort(-lost)
+    keep = np.searchsorted(np.cumsum(lost[order]), GAP_SHARE * total) + 1
+    return pts[order[:keep]]
 
 
 def feature_points(model: Model, domain: Domain) -> np.ndarray:
@@ -100,8 +136,8 @@ def feature_points(model: Model, domain: Domain) -> np.ndarray:
 
 def refinement_points(model: Model, domain: Domain, lines: YieldLines, lower: LowerBound | None,
                       field: SizeField) -> np.ndarray:
-    """Every place (p, 2) the next mesh refines: yield lines, lower-bound limit, features."""
-    return np.concatenate([line_points(lines, field), limit_points(model, lower), feature_points(model, domain)])
+    """Every place (p, 2) the next mesh refines: where the yield lines lose the gap, and features."""
+    return np.concatenate([gap_points(model, domain, lines, lower, field), feature_points(model, domain)])
 
 
 def carried_lines(old_nodes: np.ndarray, pairs: np.ndarray, new_nodes: np.ndarray) -> np.ndarray:
@@ -123,5 +159,5 @@ def lines_onto(ends: np.ndarray, new_nodes: np.ndarray) -> np.ndarray:
     return np.unique(mapped, axis=0).astype(np.int64)
 
 
-__all__ = ["NARROWING", "REFINE_FACTOR", "carried_lines", "feature_points", "limit_points",
-           "line_points", "lines_onto", "refinement_points"]
+__all__ = ["NARROWING", "REFINE_FACTOR", "carried_lines", "feature_points",
+           "gap_parts", "gap_points", "line_points", "lines_onto", "refinement_points"]

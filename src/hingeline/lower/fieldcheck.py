@@ -151,6 +151,22 @@ def _kirchhoff(poly, tri, pts, n, t):
     return qx * n[:, 0] + qy * n[:, 1] + dmnt
 
 
+def normal_moments(field: MomentField, points: np.ndarray, normals: np.ndarray, tol: float) -> np.ndarray:
+    """Normal moment m_n (kNm/m, sagging positive) of the field at `points` (k, 2), m, across
+    lines of unit normal `normals` (k, 2); NaN where no triangle of the field is within tol (m).
+    A point on a side of two triangles takes either: m_n is continuous across sides."""
+    pts = np.asarray(points, float).reshape(-1, 2)
+    out = np.full(len(pts), np.nan)
+    if not len(pts) or not len(field.triangles):
+        return out
+    tris = shapely.polygons(field.nodes[field.triangles])
+    hit, tri = shapely.STRtree(tris).query(shapely.points(pts), predicate="dwithin", distance=tol)
+    hit, first = np.unique(hit, return_index=True)
+    tri = tri[first]
+    out[hit] = _mn(_Poly(field).value(tri, pts[hit]), np.asarray(normals, float).reshape(-1, 2)[hit])
+    return out
+
+
 def yield_ratio(m: np.ndarray, cap: np.ndarray, bar_angle: float, hogging: bool = True) -> np.ndarray:
     """Smallest s >= 0 with moments m (k, 3) inside s times the capacities cap (k, 4) =
     (m_p1, m_p2, m_n1, m_n2) under Nielsen's criterion; inf if no s does (e.g. hogging
