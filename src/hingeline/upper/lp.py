@@ -21,7 +21,12 @@ the largest violation left is reported and the solve adds a warning.
 Measured alternatives that lost: taking the next round's lines from a pool kept by
 the last pricing pass (more rounds, each an interior-point solve, for pricing that
 cost less than the solve), deleting lines that stayed at zero (the interior-point
-duals then moved and violated them again, and the loop stalled with violations left),
+duals then moved and violated them again, and the loop stalled with violations left;
+on the clamped square at 1068 nodes, deleting after each round only lines of real
+strength whose reduced costs were at least 10 % of their costs both ways, 6,300 of
+15,300, made the next round's largest violation jump from 0.17 to 5.8e3, and 200 rounds
+did not end the loop: the interior-point duals sit at the centre of the optimal dual
+face, and every deleted column widens that face),
 and capping the new lines per node (the load factor stalled above the optimum).
 
 Fill (openings and the strip beyond free edges) has no strength, so hinges there
