@@ -49,17 +49,15 @@ def _along(lines: YieldLines, field: SizeField, ends: bool = True) -> tuple[np.n
     a, b = np.asarray(lines.start, float), np.asarray(lines.end, float)
     length = np.hypot(*(b - a).T)
     pieces = np.maximum(1, np.ceil(length / (0.5 * field.at(0.5 * (a + b)))).astype(int))
+    count = pieces + 1 if ends else pieces
+    i = np.repeat(np.arange(len(a)), count)
+    first = np.cumsum(count) - count
+    k = np.arange(len(i)) - first[i]                  # place of each point on its line
+    t = k / pieces[i] if ends else (k + 0.5) / pieces[i]
+    ds = (length / pieces)[i]
     if ends:
-        t = np.concatenate([np.linspace(0.0, 1.0, k + 1) for k in pieces])
-        i = np.repeat(np.arange(len(a)), pieces + 1)
-        ds = np.repeat(length / pieces, pieces + 1)
-        last = np.cumsum(pieces + 1) - 1
-        ds[last] *= 0.5
-        ds[last - pieces] *= 0.5
-    else:
-        t = np.concatenate([(np.arange(k) + 0.5) / k for k in pieces])
-        i = np.repeat(np.arange(len(a)), pieces)
-        ds = np.repeat(length / pieces, pieces)
+        ds[first] *= 0.5
+        ds[first + pieces] *= 0.5
     return a[i] + t[:, None] * (b - a)[i], i, ds
 
 
@@ -73,11 +71,11 @@ def line_points(lines: YieldLines, field: SizeField) -> np.ndarray:
 
 def gap_parts(model: Model, domain: Domain, lines: YieldLines, lower: LowerBound,
               field: SizeField) -> tuple[np.ndarray, np.ndarray]:
-    """Where the bracket is lost, by the bound gap's own split: points (p, 2) of
-    the lines (mid-points of pieces about half the element size long) and, at each, the mechanism's internal work less the work of the lower
-    bound's moments on its rotations, (m_p - m_n) |theta| ds (kNm; m_p the line's capacity
-    for the sign of its rotation, m_n the field's normal moment, sagging positive, ds the
-    length the point stands for). Each part is >= 0 because the field is inside the yield
+    """Where the bracket is lost, by the bound gap's own split: points (p, 2) along the
+    lines (mid-points of pieces about half the element size long) and, at each, the
+    mechanism's internal work less the work of the lower bound's moments on its rotations,
+    (m_p - m_n) |theta| ds (kNm; m_p the line's capacity for the sign of its rotation, m_n
+    the field's normal moment, sagging positive, ds the length the point stands for). Each part is >= 0 because the field is inside the yield
     criterion; summed, they are (upper - lower) times the scaled-load work, by virtual work
     (the field is in equilibrium with the lower bound's loads, the rotations are a mechanism)
     up to the mid-point rule along the lines. Lines in the fill (openings, beyond free

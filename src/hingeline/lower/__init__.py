@@ -2,8 +2,8 @@
 independent re-check.
 
 Public names: `solve_lower_bound`, `MomentField`, `check_field`, `FieldCheck`,
-`yield_ratio`, `normal_moments`, `element_capacities`, `SIDES`, `slab_triangles`, `EQUILIBRIUM_RTOL`,
-`SOLVER_SETTINGS`.
+`yield_ratio`, `normal_moments`, `element_capacities`, `SIDES`, `slab_triangles`,
+`EQUILIBRIUM_RTOL`, `SOLVER_SETTINGS`.
 Units: m, kN, kNm/m, kPa; sagging positive.
 May import: `hingeline.model`, `hingeline.geometry`, `hingeline.errors`. Never
 `hingeline.upper`: the two bounds stay independent of each other.
