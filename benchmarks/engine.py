@@ -4,6 +4,7 @@ Usage::
 
     python benchmarks/engine.py                    # every case, one table
     python benchmarks/engine.py --cases square_fine,blocks --repeat 3
+    python benchmarks/engine.py --cases floor_adaptive     # the floor refined to a 1 % bracket
     python benchmarks/engine.py --mem-cap-gb 6
 
 Each run is a fresh process (multiprocessing, "spawn" context) under an address-space cap
@@ -87,8 +88,10 @@ value = 1.0
 FOX = 42.851
 
 
-def _solve(toml: str, mesh_size=None, nodes=None, lower_bound=False, block_lines=None) -> dict:
-    """One solve in this process; the row's fields except peak_mb, note and case."""
+def _solve(toml: str, mesh_size=None, nodes=None, lower_bound=False, block_lines=None, gap=None,
+           time_limit=None) -> dict:
+    """One solve in this process; the row's fields except peak_mb, note and case. Without
+    mesh_size and nodes the mesh is refined adaptively to `gap` within `time_limit` (s)."""
     import hingeline
     from hingeline.upper import pricing
 
@@ -96,14 +99,17 @@ def _solve(toml: str, mesh_size=None, nodes=None, lower_bound=False, block_lines
         pricing.BLOCK_LINES = block_lines
     model = hingeline.model_from_toml(toml)
     t0 = time.perf_counter()
-    r = hingeline.solve(model, nodes=nodes, mesh_size=mesh_size, lower_bound=lower_bound)
+    r = hingeline.solve(model, nodes=nodes, mesh_size=mesh_size, lower_bound=lower_bound, gap=gap,
+                        time_limit=time_limit)
     seconds = time.perf_counter() - t0
     lb = r.lower_bound.load_factor if r.lower_bound is not None else None
     return dict(nodes=r.stats.nodes, load_factor=r.load_factor, lower_bound=lb,
                 cert_rel_diff=abs(r.certificate.load_factor - r.load_factor) / abs(r.load_factor),
                 seconds=seconds, rounds=r.stats.rounds, lines=r.stats.candidate_lines,
                 lp_lines=r.stats.lp_lines, lb_seconds=r.lower_bound.seconds if r.lower_bound else None,
-                warnings=list(r.warnings))
+                warnings=list(r.warnings),
+                steps=[st.nodes for st in r.refinement] if r.target_gap is not None else None,
+                gap=r.gap, stop=r.stop)
 
 
 def floor_upper() -> dict:
@@ -119,6 +125,12 @@ def square_fine() -> dict:
     return dict(case="clamped square, fine", reference=FOX, **_solve(SQUARE, nodes=1100))
 
 
+def floor_adaptive() -> dict:
+    # What an engineer runs on such a floor: refinement to a 1 % bracket (the default solve).
+    return dict(case="floor, refined to 1 %", reference=None,
+                **_solve(FLOOR, lower_bound=True, gap=0.01, time_limit=300.0))
+
+
 def floor_blocks() -> dict:
     return dict(case="floor 2.5k, in blocks", reference=None, **_solve(FLOOR, mesh_size=FLOOR_2500))
 
@@ -132,7 +144,7 @@ def floor_at_once() -> dict:
 TARGETS = {"floor_upper": (60.0, 2048.0), "floor_both": (180.0, None), "square_fine": (8.0, None)}
 
 CASES = {"square_fine": (square_fine, 3), "blocks": (floor_blocks, 1), "at_once": (floor_at_once, 1),
-         "floor_upper": (floor_upper, 1), "floor_both": (floor_both, 1)}
+         "floor_adaptive": (floor_adaptive, 1), "floor_upper": (floor_upper, 1), "floor_both": (floor_both, 1)}
 
 
 def _child(fn, cap_bytes: int) -> dict:
@@ -187,6 +199,9 @@ def print_row(r: dict) -> None:
 def _note(row: dict, key: str) -> None:
     """Our rows' note: rounds, lines, repeats, lower-bound time, warnings."""
     parts = [f"{row['rounds']} rounds, {row['lines']:,} candidate lines, {row['lp_lines']:,} in final LP"]
+    if row.get("steps"):
+        parts.insert(0, f"meshes of {' / '.join(f'{n:,}' for n in row['steps'])} slab nodes, gap "
+                        f"{100 * row['gap']:.2f} %, stop: {row['stop']}; last mesh")
     if row.get("lb_seconds") is not None:
         parts.append(f"lower bound {row['lb_seconds']:.1f} s of it")
     if row["reference"]:
