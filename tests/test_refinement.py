@@ -197,7 +197,8 @@ def test_the_gap_splits_onto_the_yield_lines_by_virtual_work(text):
     # Refinement marks where (m_p - m_n) |theta| is large along the mechanism's lines. By the
     # principle of virtual work (the field is in equilibrium with the lower bound's loads, the
     # rotations are a mechanism) these parts add up to (upper - lower) x scaled-load work, and
-    # each is >= 0 because the field is inside the yield criterion (lower-bound theorem). The
+    # each is >= 0 because the field is inside the yield criterion (lower-bound theorem; both
+    # as in Nielsen and Hoang, Limit Analysis and Concrete Plasticity, recalled from memory). The
     # slab with an opening and a free edge has yield lines in the fill, which lose nothing.
     model = hingeline.model_from_toml(text)
     r = hingeline.solve(model, nodes=150)
