@@ -71,8 +71,7 @@ def solve_carrying(model: Model, nodes: int | None = None, mesh_size: float | No
         return _governing(results, lower_bound), tuple(ends), admitted
     if not model.cases:
         return Refinement(model, nodes, mesh_size, lower_bound, gap, time_limit).run().finish()[0], (), 0
-    limit = model.analysis.time_limit if time_limit is None else float(time_limit)
-    runs = [Refinement(m, None, None, lower_bound, gap, limit, t0=t0) for _, m in cases]
+    runs = [Refinement(m, None, None, lower_bound, gap, time_limit, t0=t0) for _, m in cases]
     for (name, _), run in zip(cases, runs):
         log.info("load case %s, first mesh", name)
         run.step()
@@ -95,7 +94,7 @@ def solve_carrying(model: Model, nodes: int | None = None, mesh_size: float | No
             results.append((name, run.finish("not governing")[0]))
         else:
             log.info("load case %s, from the refined mesh of case %s", name, cases[lead][0])
-            left = max(limit - (time.perf_counter() - t0), 1e-3)
+            left = max(run.limit - (time.perf_counter() - t0), 1e-3)
             results.append((name, Refinement(m, None, None, lower_bound, gap, left, start=field).run().finish()[0]))
     return _governing(results, lower_bound), (), 0
 

@@ -102,19 +102,32 @@ class Refinement:
         self.carried = None
         if carried is not None:
             self.carried = s.points_in(np.asarray(carried, float).reshape(-1, 2)).reshape(-1, 2, 2)
+        # best: the step holding the lowest upper bound (its raw Result, plane mismatch, |w| on
+        # supports, active lines' ends); lower_raw: the LowerBound holding the highest proven one.
         self.steps, self.best, self.lower_raw, self.prev = [], None, None, None
-        self.up_best = self.lo_best = self.last_gap = self.milder = None
+        self.last_gap = self.milder = None
         self.best_sound = False
         self.admitted = 0
         self.stop: str | None = None
 
+    @property
+    def _up_best(self) -> float:
+        """The lowest upper bound so far (dimensionless)."""
+        return self.best[0].load_factor
+
+    @property
+    def _lo_best(self) -> float | None:
+        """The highest proven lower bound so far (dimensionless), or None."""
+        return None if self.lower_raw is None else self.lower_raw.load_factor
+
     def upper(self) -> float:
         """The lowest upper bound so far (model units)."""
-        return rescale.load_factor(self.up_best, self.s)
+        return rescale.load_factor(self._up_best, self.s)
 
     def lower(self) -> float | None:
         """The highest proven lower bound so far (model units), or None."""
-        return None if self.lo_best is None else rescale.load_factor(self.lo_best, self.s)
+        lo = self._lo_best
+        return None if lo is None else rescale.load_factor(lo, self.s)
 
     def run(self) -> Refinement:
         """Step until a stop reason is reached."""
@@ -153,7 +166,7 @@ class Refinement:
             elapsed = time.perf_counter() - self.t0
             # A step costs more than in proportion to its nodes: candidate lines grow with their square, and
             # the steps of the clamped square were measured to grow as nodes^1.7 to nodes^2.6.
-            guess = steps[-1].seconds * (len(mesh.nodes) / self.prev[1]) ** 2
+            guess = steps[-1].seconds * (len(mesh.nodes) / len(self.prev[0])) ** 2
             if elapsed + guess <= self.limit:
                 break
             if self.milder is None:
@@ -164,7 +177,7 @@ class Refinement:
         if self.prev is None:
             first = None if self.carried is None else lines_onto(self.carried, mesh.nodes)
         else:
-            first = carried_lines(self.prev[0], self.prev[2], mesh.nodes)
+            first = carried_lines(*self.prev, mesh.nodes)
         t_step = time.perf_counter()
         raw, mismatch, support_w, active, n_in = _solve_on_mesh(model, self.domain, mesh, self.size,
                                                                 self.lower_bound, self.s, self.option, first)
@@ -181,15 +194,16 @@ class Refinement:
         chk = check_mechanism(model, raw.mechanism)
         sound = (certificate_agrees(raw.load_factor, chk, float(np.abs(raw.mechanism.w).max()))
                  and mismatch <= 1e-8 and support_w <= 1e-8)
-        if self.best is None or (sound and (not self.best_sound or raw.load_factor < self.up_best)):
-            self.best = (raw, mismatch, support_w, mesh.nodes[active])
-            self.up_best, self.best_sound = raw.load_factor, sound
-        if lb is not None and (self.lower_raw is None or (lo is not None and (self.lo_best is None or lo > self.lo_best))):
-            self.lower_raw, self.lo_best = lb, (lo if lo is not None else self.lo_best)
-        self.prev = (mesh.nodes, len(mesh.nodes), active)
+        if self.best is None or (sound and (not self.best_sound or raw.load_factor < self._up_best)):
+            self.best, self.best_sound = (raw, mismatch, support_w, mesh.nodes[active]), sound
+        lo_best = self._lo_best
+        if lb is not None and (self.lower_raw is None or (lo is not None and (lo_best is None or lo > lo_best))):
+            self.lower_raw = lb
+        self.prev = (mesh.nodes, active)
         log.info("refinement step %d: %d nodes, upper %.6g, lower %s, %.2f s", len(steps), len(mesh.nodes),
                  raw.load_factor, lo, steps[-1].seconds)
-        now = None if self.lo_best is None else (self.up_best - self.lo_best) / self.up_best
+        up_best, lo_best = self._up_best, self._lo_best
+        now = None if lo_best is None else (up_best - lo_best) / up_best
         if self.uniform:
             self.stop = "uniform"
         elif now is not None and now <= target:
@@ -200,7 +214,7 @@ class Refinement:
             if self.last_gap is not None and now > NARROWING * self.last_gap:
                 self.stop = "stalled"
             self.last_gap = now
-        elif len(steps) > 1 and steps[-2].load_factor - self.up_best < 0.25 * target * self.up_best:
+        elif len(steps) > 1 and steps[-2].load_factor - up_best < 0.25 * target * up_best:
             # Without a lower bound: stop when the upper bound no longer falls by a quarter of the target.
             self.stop = "stalled"
         if self.stop is None:

@@ -106,10 +106,7 @@ def required_scale(model: Model, target: float = 1.0, nodes: int | None = None,
     each = [(case.name, _required_scale(model_for_case(model, case), model, target, mesh, scaled))
             for case in model.cases]
     name, governing = max(each, key=lambda nd: nd[1].scale)
-    safes = [d.safe_scale for _, d in each]
-    safe = None if any(v is None for v in safes) else max(safes)
-    return replace(_with_proposals(model, governing.scale, safe, governing, scaled),
-                   case=name, cases=tuple((n, d.scale, d.safe_scale) for n, d in each))
+    return _over_cases(model, name, governing, tuple((n, d.scale, d.safe_scale) for n, d in each), scaled)
 
 
 def with_scale(model: Model, s: float, scaled: str) -> Model:
@@ -142,11 +139,16 @@ def _all_cases_scaled(model: Model, target: float, mesh: dict) -> DesignResult:
     result = solve_cases(_at_target(model, target), **mesh)
     lowers = result.case_lower_bounds or (None,) * len(result.cases)
     cases = tuple((n, 1.0 / lf, 1.0 / lb if lb else None) for (n, lf), lb in zip(result.cases, lowers))
+    return _over_cases(model, result.case, DesignResult(1.0 / result.load_factor, target, result), cases)
+
+
+def _over_cases(model: Model, name: str, governing: DesignResult, cases: tuple, scaled: str = "all") -> DesignResult:
+    """The design of a model with load cases: `governing`, the design of case `name` (the
+    largest scale), with the table `cases` of (name, scale, proven scale or None) and the
+    proven scale of all cases (the largest, or None when a case has none), bars proposed."""
     safes = [safe for _, _, safe in cases]
     safe = None if any(v is None for v in safes) else max(safes)
-    scale = 1.0 / result.load_factor
-    return replace(_with_proposals(model, scale, safe, DesignResult(scale, target, result)),
-                   case=result.case, cases=cases)
+    return replace(_with_proposals(model, governing.scale, safe, governing, scaled), case=name, cases=cases)
 
 
 def _required_scale(model: Model, whole: Model, target: float, mesh: dict, scaled: str) -> DesignResult:
